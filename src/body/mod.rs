@@ -1,1 +1,3 @@
-//! (filled by its stage's issue)
+//! Stage 3, the body model: landmarks in our vocabulary, joint centers and segment endpoints.
+
+pub mod vocabulary;
