@@ -1,1 +1,316 @@
-//! (filled by its stage's issue)
+//! One way through the house: [`run_trial`] takes a read [`Trial`] through every stage
+//! (DESIGN.md 2) and returns a [`TrialResult`]. The CLI (`trial`, `demo`) and `batch` call this
+//! and nothing else of the stages, so batch results cannot drift from single-trial results.
+//!
+//! Order (reference/methods.md 4, "order of operations"): fill gaps, filter markers, then joint
+//! centers, segments and CoM, then derivatives, XCoM, and the base of support.
+
+use crate::anthropometry::SegmentTable;
+use crate::body::model::FOOT_POINTS;
+use crate::body::{BodyModel, LandmarkError};
+use crate::com::{self, ComError, ComModel, P};
+use crate::config::{Config, Subject, XcomLength};
+use crate::signal::{self, SignalError};
+use crate::support::{self, SupportSeries};
+use crate::trial::{Trial, UpAxis};
+use crate::warning::Warning;
+
+/// Anything that stops a trial.
+#[derive(Debug, thiserror::Error)]
+pub enum PipelineError {
+    #[error("{0}")]
+    Landmark(#[from] LandmarkError),
+    #[error("{0}")]
+    Com(#[from] ComError),
+    #[error("{file}: {source}")]
+    Signal { file: String, source: SignalError },
+}
+
+/// Options of one run that are not part of the configuration.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct RunOptions {
+    /// Keep per-segment CoM series (`seg_<segment>_*` columns).
+    pub segments: bool,
+}
+
+/// Figures that say how the CoM was obtained (summary provenance).
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct ModelInfo {
+    pub table: String,
+    pub population: String,
+    pub table_source: String,
+    pub hip: String,
+    pub segments: Vec<String>,
+    pub body_mass_kg: f64,
+    pub system_mass_kg: f64,
+    pub cutoff_hz: Option<f64>,
+    pub max_gap_s: f64,
+    pub leg_length_m: Option<f64>,
+    /// Pendulum length of the XCoM and its eigenfrequency sqrt(g / l).
+    pub xcom_length_m: Option<f64>,
+    pub omega0_rad_s: Option<f64>,
+}
+
+/// Everything computed for one trial, frame by frame.
+#[derive(Clone, Debug)]
+pub struct TrialResult {
+    pub name: String,
+    pub times_s: Vec<f64>,
+    pub rate_hz: f64,
+    pub up_axis: UpAxis,
+    /// System CoM (body + loads) and everything derived from it.
+    pub com: Vec<Option<[f64; 3]>>,
+    pub velocity: Vec<Option<[f64; 3]>>,
+    pub acceleration: Vec<Option<[f64; 3]>>,
+    /// XCoM with its vertical coordinate at floor level.
+    pub xcom: Vec<Option<[f64; 3]>>,
+    /// Body CoM (loads excluded); equal to `com` without loads.
+    pub body_com: Vec<Option<[f64; 3]>>,
+    pub load_names: Vec<String>,
+    /// `loads[l][frame]`: each load's position.
+    pub loads: Vec<Vec<Option<[f64; 3]>>>,
+    pub group_names: Vec<String>,
+    pub groups: Vec<Vec<Option<[f64; 3]>>>,
+    /// Empty unless [`RunOptions::segments`].
+    pub segment_names: Vec<String>,
+    pub segments: Vec<Vec<Option<[f64; 3]>>>,
+    pub support: SupportSeries,
+    pub model: ModelInfo,
+    pub warnings: Vec<Warning>,
+}
+
+impl TrialResult {
+    pub fn n_frames(&self) -> usize {
+        self.times_s.len()
+    }
+
+    /// A frame is valid when its system CoM exists.
+    pub fn is_valid(&self, frame: usize) -> bool {
+        self.com.get(frame).is_some_and(Option::is_some)
+    }
+
+    /// Share of valid frames, 0..1.
+    pub fn valid_fraction(&self) -> f64 {
+        if self.com.is_empty() {
+            return 0.0;
+        }
+        self.com.iter().filter(|c| c.is_some()).count() as f64 / self.com.len() as f64
+    }
+}
+
+/// Runs one trial through every stage.
+pub fn run_trial(
+    trial: &Trial,
+    config: &Config,
+    subject: &Subject,
+    table: &SegmentTable,
+    options: RunOptions,
+) -> Result<TrialResult, PipelineError> {
+    let labels = &trial.markers.labels;
+    // Everything that can be missing is found out before any computation.
+    let mut body = BodyModel::build(labels, &trial.name, config, subject, table, &FOOT_POINTS)?;
+    let com_model = ComModel::new(labels, &trial.name, config, &body)?;
+    let mut warnings = trial.warnings.clone();
+
+    let (mut markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
+    warnings.extend(signal::filled_warnings(&gaps, labels, &trial.times_s, trial.rate_hz));
+    if let Some(cutoff_hz) = config.cutoff_hz {
+        signal::low_pass(&mut markers, trial.rate_hz, cutoff_hz)
+            .map_err(|source| PipelineError::Signal { file: trial.name.clone(), source })?;
+    }
+
+    let n = trial.n_frames();
+    let mut frame_markers: Vec<Option<[f64; 3]>> = vec![None; labels.len()];
+    let mut used = body.markers_used.clone();
+    for load in &com_model.loads {
+        used.extend(load.marker_indices());
+    }
+    used.sort_unstable();
+    used.dedup();
+    body.measure_leg_length(&markers);
+    warnings.extend(body.warnings.iter().cloned());
+
+    let mut points = Vec::with_capacity(body.n_points());
+    let mut seg = Vec::with_capacity(body.segments.len());
+    let mut system = Vec::with_capacity(n);
+    let mut body_com = Vec::with_capacity(n);
+    let mut loads = vec![Vec::with_capacity(n); com_model.loads.len()];
+    let mut groups = vec![Vec::with_capacity(n); com_model.groups.len()];
+    let mut segments = if options.segments { vec![Vec::with_capacity(n); body.segments.len()] } else { Vec::new() };
+    let mut foot = support::FootFrames::new(&body, n);
+    for frame in 0..n {
+        for &i in &used {
+            frame_markers[i] = markers.tracks[i].at(frame);
+        }
+        body.evaluate(&frame_markers, &mut points);
+        let c = com_model.frame(&body, &points, &frame_markers, &mut seg);
+        system.push(c.system.map(to_array));
+        body_com.push(c.body.map(to_array));
+        for (series, p) in loads.iter_mut().zip(&c.loads) {
+            series.push(p.map(to_array));
+        }
+        for (series, p) in groups.iter_mut().zip(&c.groups) {
+            series.push(p.map(to_array));
+        }
+        for (series, p) in segments.iter_mut().zip(&seg) {
+            series.push(p.map(to_array));
+        }
+        foot.push(&points);
+    }
+    drop(markers);
+
+    let dt = 1.0 / trial.rate_hz;
+    let (velocity, acceleration) = signal::derivative::of_series(&system, dt);
+
+    let xcom_length_m = match config.xcom_length {
+        XcomLength::Metres(m) => Some(m),
+        XcomLength::Leg => body.leg_length_m,
+    };
+    if xcom_length_m.is_none() {
+        warnings.push(Warning::Approximation {
+            what: "no leg length (subject leg_length_m or ASIS and malleolus markers): no XCoM".to_string(),
+        });
+    }
+    let omega0 = xcom_length_m.map(com::omega0);
+    let (floor_m, floor_warning) = support::floor_m(&foot, trial.up_axis, &config.support);
+    warnings.extend(floor_warning);
+    let up = trial.up_axis;
+    let xcom: Vec<Option<[f64; 3]>> = system
+        .iter()
+        .zip(&velocity)
+        .map(|(c, v)| {
+            let (c, v, w) = (c.as_ref()?, v.as_ref()?, omega0?);
+            let xi = com::xcom_horizontal(up.horizontal(c), up.horizontal(v), w);
+            Some(up.point(xi, floor_m))
+        })
+        .collect();
+    let support = support::analyse(
+        &foot,
+        &system,
+        &velocity,
+        &xcom,
+        floor_m,
+        up,
+        &trial.times_s,
+        trial.rate_hz,
+        &config.support,
+    );
+    warnings.extend(support.warnings.iter().cloned());
+
+    let model = ModelInfo {
+        table: table.name.clone(),
+        population: table.population.clone(),
+        table_source: table.source.clone(),
+        hip: config.hip.name().to_string(),
+        segments: body.segments.iter().map(|s| format!("{} ({})", s.name, s.row_key)).collect(),
+        body_mass_kg: com_model.body_mass_kg,
+        system_mass_kg: com_model.system_mass_kg,
+        cutoff_hz: config.cutoff_hz,
+        max_gap_s: config.max_gap_s,
+        leg_length_m: body.leg_length_m,
+        xcom_length_m,
+        omega0_rad_s: omega0,
+    };
+    Ok(TrialResult {
+        name: trial.name.clone(),
+        times_s: trial.times_s.clone(),
+        rate_hz: trial.rate_hz,
+        up_axis: trial.up_axis,
+        com: system,
+        velocity,
+        acceleration,
+        xcom,
+        body_com,
+        load_names: com_model.loads.iter().map(|l| l.name.clone()).collect(),
+        loads,
+        group_names: com_model.groups.iter().map(|g| g.name.clone()).collect(),
+        groups,
+        segment_names: if options.segments { body.segments.iter().map(|s| s.name.clone()).collect() } else { Vec::new() },
+        segments,
+        support,
+        model,
+        warnings,
+    })
+}
+
+fn to_array(p: P) -> [f64; 3] {
+    [p.x, p.y, p.z]
+}
+
+
+/// A fatal problem with one trial or its setup: one line, with file and position.
+#[derive(Debug, thiserror::Error)]
+pub enum Error {
+    #[error("{0}")]
+    Trial(#[from] crate::trial::TrialError),
+    #[error("{0}")]
+    Config(#[from] crate::config::ConfigError),
+    #[error("{0}")]
+    Table(#[from] crate::anthropometry::TableError),
+    #[error("{0}")]
+    Pipeline(#[from] PipelineError),
+    #[error("cannot write {path}: {source}")]
+    Write { path: String, source: std::io::Error },
+    #[error("cannot read {path}: {source}")]
+    Read { path: String, source: std::io::Error },
+}
+
+/// A validated configuration, subject and table: everything a trial needs besides its file.
+#[derive(Clone, Debug)]
+pub struct Setup {
+    pub config: Config,
+    pub subject: Subject,
+    pub table: SegmentTable,
+}
+
+impl Setup {
+    /// Loads the table the configuration names for the subject's sex.
+    pub fn new(config: Config, subject: Subject) -> Result<Setup, Error> {
+        let table = SegmentTable::load(&config.table, subject.sex)?;
+        Ok(Setup { config, subject, table })
+    }
+
+    /// SHA-256 of the configuration, subject and table, as JSON (for provenance and resume).
+    pub fn hash(&self) -> String {
+        let json = serde_json::json!({
+            "config": self.config,
+            "subject": self.subject,
+            "table": self.table,
+        });
+        crate::report::sha256_hex(json.to_string().as_bytes())
+    }
+}
+
+/// How to write a trial's outputs.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct OutputOptions {
+    pub run: RunOptions,
+    /// Plot formats to write; empty = no plots.
+    pub plots: Vec<crate::report::plots::PlotFormat>,
+}
+
+/// Reads a trial file, runs it, and writes its outputs into `dir` (`frames.csv`,
+/// `summary.json`, `steps.csv` when steps were found, plots): the one path that `trial`, `demo`
+/// and `batch` share.
+pub fn process_file(
+    path: &std::path::Path,
+    setup: &Setup,
+    dir: &std::path::Path,
+    options: &OutputOptions,
+) -> Result<crate::report::Summary, Error> {
+    let bytes = std::fs::read(path).map_err(|source| Error::Read { path: path.display().to_string(), source })?;
+    let input_sha256 = crate::report::sha256_hex(&bytes);
+    let stem = path.file_stem().map_or("trial".to_string(), |s| s.to_string_lossy().into_owned());
+    let trial = crate::trial::read_trial_from(
+        bytes.as_slice(),
+        &path.display().to_string(),
+        &stem,
+        &setup.config.read_options(),
+    )?;
+    drop(bytes);
+    let result = run_trial(&trial, &setup.config, &setup.subject, &setup.table, options.run)?;
+    drop(trial);
+    let summary = crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());
+    crate::report::write_outputs(dir, &result, &summary, &options.plots)?;
+    Ok(summary)
+}

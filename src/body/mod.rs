@@ -1,3 +1,16 @@
-//! Stage 3, the body model: landmarks in our vocabulary, joint centers and segment endpoints.
+//! Stage 3, the body model (DESIGN.md 4, 5): trial labels become landmarks of our vocabulary,
+//! joint centers are estimated where the trial does not give them, and the chosen table rows
+//! become segments with two endpoints each.
+//!
+//! - [`vocabulary`]: the landmark names.
+//! - [`joints`]: joint-center methods (hip regressions, midpoints, lateral-marker offsets,
+//!   shoulder from the acromion, vertex from four head markers).
+//! - [`model`]: resolution of every point the segments need into a per-frame evaluation plan,
+//!   with the "landmark not found" error raised before any computation.
 
+pub mod joints;
+pub mod model;
 pub mod vocabulary;
+
+pub use model::{BodyModel, LandmarkError, Segment, SegmentPoint};
+pub use vocabulary::Side;

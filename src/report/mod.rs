@@ -1,1 +1,107 @@
-//! (filled by its stage's issue)
+//! Stage 6, reporting (DESIGN.md 8, 9): a [`TrialResult`](crate::pipeline::TrialResult) becomes
+//! `frames.csv` (one row per frame, SI units in every column name), `summary.json` (figures,
+//! warnings, provenance, cautions), `steps.csv`, and the plots.
+//!
+//! Writers take `impl Write`; [`write_atomic`] owns the files: it writes to a temporary name
+//! in the same folder and renames, so an interrupted run never leaves a truncated file.
+
+pub mod frames;
+pub mod plots;
+pub mod summary;
+
+pub use frames::{frames_header, write_frames, write_steps};
+pub use summary::{Summary, CAUTIONS};
+
+use std::io::Write;
+use std::path::Path;
+
+/// Writes a file through a temporary name and a rename (same folder, so the rename is atomic on
+/// one file system). On error the temporary file is removed and the target left untouched.
+pub fn write_atomic(
+    path: &Path,
+    write: impl FnOnce(&mut dyn Write) -> std::io::Result<()>,
+) -> std::io::Result<()> {
+    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    std::fs::create_dir_all(dir)?;
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    let result = (|| {
+        let file = std::fs::File::create(&tmp)?;
+        let mut w = std::io::BufWriter::with_capacity(1 << 16, file);
+        write(&mut w)?;
+        let file = w.into_inner().map_err(|e| e.into_error())?;
+        file.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+/// Lowercase hex SHA-256 of bytes (input-file and configuration hashes in the provenance).
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::Digest;
+    let digest = sha2::Sha256::digest(bytes);
+    let mut s = String::with_capacity(64);
+    for b in digest.iter() {
+        s.push_str(&format!("{b:02x}"));
+    }
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// FIPS 180-2 test vector: SHA-256("abc").
+    #[test]
+    fn sha256_of_abc() {
+        assert_eq!(
+            sha256_hex(b"abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+
+    #[test]
+    fn a_failed_write_leaves_no_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("out.csv");
+        let r = write_atomic(&path, |w| {
+            w.write_all(b"partial")?;
+            Err(std::io::Error::other("stop"))
+        });
+        assert!(r.is_err());
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
+    }
+}
+
+/// Writes every output of a trial into `dir`, each file atomically; `summary.json` last, so its
+/// presence means the trial's outputs are complete.
+pub fn write_outputs(
+    dir: &Path,
+    result: &crate::pipeline::TrialResult,
+    summary: &Summary,
+    plots: &[plots::PlotFormat],
+) -> Result<(), crate::pipeline::Error> {
+    let err = |path: &Path| {
+        let path = path.display().to_string();
+        move |source| crate::pipeline::Error::Write { path, source }
+    };
+    let frames = dir.join("frames.csv");
+    write_atomic(&frames, |w| write_frames(result, w)).map_err(err(&frames))?;
+    if !result.support.steps.is_empty() {
+        let steps = dir.join("steps.csv");
+        write_atomic(&steps, |w| write_steps(result, w)).map_err(err(&steps))?;
+    }
+    for format in plots {
+        plots::write_plots(dir, result, summary, *format)?;
+    }
+    let json = dir.join("summary.json");
+    write_atomic(&json, |w| {
+        serde_json::to_writer_pretty(&mut *w, summary).map_err(std::io::Error::other)?;
+        w.write_all(b"\n")
+    })
+    .map_err(err(&json))?;
+    Ok(())
+}

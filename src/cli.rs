@@ -1,0 +1,412 @@
+//! Command line (clap only): flags become a validated [`Setup`] before any work; the library
+//! never sees a flag. Exit codes: 0 done, 1 batch finished with failed trials, 2 could not start.
+
+use anyhow::{bail, Context, Result};
+use clap::{Args, Parser, Subcommand, ValueEnum};
+use gravline::anthropometry::{self, SegmentTable, Sex};
+use gravline::body::vocabulary;
+use gravline::config::{Config, RawConfig, RawCutoff, Subject, DEFAULT_CONFIG_TOML};
+use gravline::pipeline::{self, OutputOptions, RunOptions, Setup};
+use gravline::report::plots::PlotFormat;
+use gravline::report::CAUTIONS;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+const EPILOGUE: &str = "Cautions: CoM estimated from generic anthropometric tables and skin markers typically \
+differs from the true CoM by a centimetre or more. gravline is an analysis aid, not a medical device: \
+fall-risk, rehabilitation and training decisions belong to qualified, licensed practitioners under \
+local regulations. Lifting analysis does not make a lift safe.";
+
+#[derive(Parser, Debug)]
+#[command(name = "gravline", version, about = "Whole-body center of mass, its velocity and its margin to the base of support, from 3D marker trajectories", after_help = EPILOGUE)]
+struct Cli {
+    /// Print only errors.
+    #[arg(short, long, global = true)]
+    quiet: bool,
+    /// Print every warning in full.
+    #[arg(short, long, global = true)]
+    verbose: bool,
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Process one trial: frames.csv, summary.json, steps.csv and plots in <out>/<trial-stem>/.
+    #[command(after_help = EPILOGUE)]
+    Trial(TrialArgs),
+    /// Winter's residual analysis: suggested low-pass cut-off per marker and overall.
+    Cutoff(CutoffArgs),
+    /// List the built-in anthropometric tables, or show one.
+    Tables(TablesArgs),
+    /// Print the landmark vocabulary, and a mapping template for a trial file.
+    Landmarks(LandmarksArgs),
+    /// Configuration helpers.
+    Config(ConfigArgs),
+    /// Run the bundled example trials end to end.
+    #[command(after_help = EPILOGUE)]
+    Demo(DemoArgs),
+}
+
+#[derive(Args, Debug, Clone, Default)]
+struct SubjectArgs {
+    /// Subject file (TOML: mass_kg, height_m, sex, optional lab measurements).
+    #[arg(long, conflicts_with_all = ["mass_kg", "height_m", "sex"])]
+    subject: Option<PathBuf>,
+    /// Body mass in kg (instead of --subject).
+    #[arg(long)]
+    mass_kg: Option<f64>,
+    /// Stature in metres (instead of --subject).
+    #[arg(long)]
+    height_m: Option<f64>,
+    /// Sex, chooses the table's population (instead of --subject).
+    #[arg(long, value_enum)]
+    sex: Option<SexArg>,
+}
+
+#[derive(ValueEnum, Clone, Copy, Debug)]
+enum SexArg {
+    Female,
+    Male,
+}
+
+#[derive(Args, Debug, Clone, Default)]
+struct SetupArgs {
+    /// Configuration file (TOML; see `gravline config --print-default`).
+    #[arg(long)]
+    config: Option<PathBuf>,
+    /// Anthropometric table: de-leva-1996, dempster-winter or a table file.
+    #[arg(long)]
+    table: Option<String>,
+    /// Sampling rate in Hz, for files with a frame column.
+    #[arg(long)]
+    rate_hz: Option<f64>,
+    /// Low-pass cut-off in Hz (0 turns the filter off).
+    #[arg(long)]
+    cutoff_hz: Option<f64>,
+    /// Longest interior marker gap bridged by the spline, in seconds.
+    #[arg(long)]
+    max_gap_s: Option<f64>,
+}
+
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+enum PlotFormatArg {
+    Png,
+    Svg,
+    Both,
+}
+
+#[derive(Args, Debug, Clone)]
+struct PlotArgs {
+    /// Do not write plots.
+    #[arg(long)]
+    no_plots: bool,
+    /// Plot image format.
+    #[arg(long, value_enum, default_value = "png")]
+    plot_format: PlotFormatArg,
+}
+
+impl PlotArgs {
+    fn formats(&self) -> Vec<PlotFormat> {
+        if self.no_plots {
+            return Vec::new();
+        }
+        match self.plot_format {
+            PlotFormatArg::Png => vec![PlotFormat::Png],
+            PlotFormatArg::Svg => vec![PlotFormat::Svg],
+            PlotFormatArg::Both => vec![PlotFormat::Png, PlotFormat::Svg],
+        }
+    }
+}
+
+#[derive(Args, Debug)]
+struct TrialArgs {
+    /// Trial CSV (wide or tidy layout).
+    trial: PathBuf,
+    #[command(flatten)]
+    subject: SubjectArgs,
+    #[command(flatten)]
+    setup: SetupArgs,
+    /// Output folder; the trial's outputs go to <out>/<trial-stem>/.
+    #[arg(long, default_value = "gravline-out")]
+    out: PathBuf,
+    /// Add per-segment CoM columns (seg_<segment>_x_m ...) to frames.csv.
+    #[arg(long)]
+    segments: bool,
+    #[command(flatten)]
+    plots: PlotArgs,
+}
+
+#[derive(Args, Debug)]
+struct CutoffArgs {
+    /// Trial CSV.
+    trial: PathBuf,
+    #[command(flatten)]
+    setup: SetupArgs,
+    /// Write the residual curves (cutoff_hz and one column per marker coordinate) to this CSV.
+    #[arg(long)]
+    csv: Option<PathBuf>,
+}
+
+#[derive(Args, Debug)]
+struct TablesArgs {
+    /// Table to show (de-leva-1996, dempster-winter, or a table file).
+    name: Option<String>,
+    /// Population of tables that have one per sex.
+    #[arg(long, value_enum, default_value = "male")]
+    sex: SexArg,
+}
+
+#[derive(Args, Debug)]
+struct LandmarksArgs {
+    /// Trial CSV: print a [landmarks] template matching its labels.
+    trial: Option<PathBuf>,
+}
+
+#[derive(Args, Debug)]
+struct ConfigArgs {
+    /// Write the default configuration, with comments, to stdout.
+    #[arg(long)]
+    print_default: bool,
+}
+
+#[derive(Args, Debug)]
+struct DemoArgs {
+    /// Output folder.
+    #[arg(long, default_value = "gravline-demo")]
+    out: PathBuf,
+    #[command(flatten)]
+    plots: PlotArgs,
+}
+
+/// Runs the command line; `Err` is a could-not-start error (exit code 2).
+pub fn run() -> Result<ExitCode> {
+    let cli = Cli::parse();
+    let ui = Ui { quiet: cli.quiet, verbose: cli.verbose };
+    match cli.command {
+        Command::Trial(a) => trial(&a, &ui),
+        Command::Cutoff(a) => cutoff(&a),
+        Command::Tables(a) => tables(&a),
+        Command::Landmarks(a) => landmarks(&a),
+        Command::Config(a) => {
+            if !a.print_default {
+                bail!("nothing to do: use `gravline config --print-default`");
+            }
+            print!("{DEFAULT_CONFIG_TOML}");
+            Ok(ExitCode::SUCCESS)
+        }
+        Command::Demo(a) => demo(&a, &ui),
+    }
+}
+
+/// Where messages go: stderr, filtered by -q / -v.
+struct Ui {
+    quiet: bool,
+    verbose: bool,
+}
+
+impl Ui {
+    fn info(&self, message: &str) {
+        if !self.quiet {
+            eprintln!("{message}");
+        }
+    }
+
+    fn warnings(&self, trial: &str, warnings: &[String]) {
+        if self.quiet || warnings.is_empty() {
+            return;
+        }
+        let shown = if self.verbose { warnings.len() } else { warnings.len().min(5) };
+        for w in &warnings[..shown] {
+            eprintln!("{trial}: warning: {w}");
+        }
+        if shown < warnings.len() {
+            eprintln!("{trial}: {} more warnings in summary.json (-v shows all)", warnings.len() - shown);
+        }
+    }
+}
+
+/// The raw configuration of a file (or defaults) with the flags applied.
+fn raw_config(args: &SetupArgs) -> Result<(RawConfig, String)> {
+    let (mut raw, origin) = match &args.config {
+        Some(path) => (RawConfig::from_path(path)?, path.display().to_string()),
+        None => (RawConfig::default(), "command line".to_string()),
+    };
+    if let Some(t) = &args.table {
+        raw.model.table = Some(t.clone());
+    }
+    if let Some(r) = args.rate_hz {
+        raw.input.rate_hz = Some(r);
+    }
+    if let Some(c) = args.cutoff_hz {
+        raw.filter.cutoff_hz = Some(if c == 0.0 { RawCutoff::Word("none".into()) } else { RawCutoff::Hz(c) });
+    }
+    if let Some(g) = args.max_gap_s {
+        raw.filter.max_gap_s = Some(g);
+    }
+    Ok((raw, origin))
+}
+
+fn config(args: &SetupArgs) -> Result<Config> {
+    let (raw, origin) = raw_config(args)?;
+    Ok(Config::from_raw(&raw, &origin)?)
+}
+
+fn subject(args: &SubjectArgs) -> Result<Subject> {
+    if let Some(path) = &args.subject {
+        return Ok(Subject::from_path(path)?);
+    }
+    match (args.mass_kg, args.height_m, args.sex) {
+        (Some(m), Some(h), Some(s)) => {
+            let sex = match s {
+                SexArg::Female => Sex::Female,
+                SexArg::Male => Sex::Male,
+            };
+            Ok(Subject::new(m, h, sex).validate("command line")?)
+        }
+        _ => bail!("give the subject: --subject S.toml, or all of --mass-kg, --height-m and --sex"),
+    }
+}
+
+fn trial(a: &TrialArgs, ui: &Ui) -> Result<ExitCode> {
+    let setup = Setup::new(config(&a.setup)?, subject(&a.subject)?)?;
+    let stem = a.trial.file_stem().map_or("trial".into(), |s| s.to_string_lossy().into_owned());
+    let dir = a.out.join(&stem);
+    let options = OutputOptions { run: RunOptions { segments: a.segments }, plots: a.plots.formats() };
+    let summary = pipeline::process_file(&a.trial, &setup, &dir, &options)?;
+    ui.warnings(&stem, &summary.warnings);
+    ui.info(&trial_line(&summary));
+    ui.info(&format!("outputs in {}", dir.display()));
+    Ok(ExitCode::SUCCESS)
+}
+
+/// One line per trial: frames, valid share, mean CoM height as a share of stature, path length.
+fn trial_line(s: &gravline::report::Summary) -> String {
+    let share = s.com.mean_height_of_stature.map_or("-".to_string(), |f| format!("{f:.3}"));
+    let speed = s.com.mean_speed_m_s.map_or("-".to_string(), |v| format!("{v:.2}"));
+    format!(
+        "{}: {} frames, {:.1} % valid, mean CoM height {} of stature, CoM path {:.2} m, mean speed {} m/s",
+        s.trial,
+        s.frames,
+        100.0 * s.valid_fraction,
+        share,
+        s.com.path_length_m,
+        speed
+    )
+}
+
+fn cutoff(a: &CutoffArgs) -> Result<ExitCode> {
+    let config = config(&a.setup)?;
+    let trial = gravline::trial::read_trial(&a.trial, &config.read_options())?;
+    let report = gravline::signal::residual::analyse_trial(&trial);
+    print!("{}", report.describe());
+    if let Some(path) = &a.csv {
+        gravline::report::write_atomic(path, |w| report.write_curves(w))
+            .with_context(|| format!("cannot write {}", path.display()))?;
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn tables(a: &TablesArgs) -> Result<ExitCode> {
+    let sex = match a.sex {
+        SexArg::Female => Sex::Female,
+        SexArg::Male => Sex::Male,
+    };
+    match &a.name {
+        Some(name) => print!("{}", anthropometry::describe(&SegmentTable::load(name, sex)?)),
+        None => {
+            for name in anthropometry::BUILTIN {
+                let t = SegmentTable::builtin(name, sex)?;
+                println!("{:<16} {} ({} rows; mass fractions sum to {:.4})", t.name, t.source, t.rows.len(), t.mass_sum);
+            }
+            println!("\n`gravline tables NAME [--sex female]` shows the rows; anthropometry/README.md cites the sources.");
+        }
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn landmarks(a: &LandmarksArgs) -> Result<ExitCode> {
+    println!("# gravline landmark vocabulary (l_/r_ prefix for sided landmarks)");
+    for l in vocabulary::VOCABULARY {
+        let name = match l.sidedness {
+            vocabulary::Sidedness::Sided => format!("l_{0} / r_{0}", l.stem),
+            vocabulary::Sidedness::Single => l.stem.to_string(),
+        };
+        let derived = if l.origin == vocabulary::Origin::Derived { " (computed unless given)" } else { "" };
+        println!("#   {name:<28} {}{derived}", l.description);
+    }
+    let Some(path) = &a.trial else {
+        return Ok(ExitCode::SUCCESS);
+    };
+    let labels = gravline::trial::read_labels(path)?;
+    println!("\n# [landmarks] template for {}: edit the labels on the right, delete lines you do not need.", path.display());
+    println!("[landmarks]");
+    let names = vocabulary::all_names();
+    for name in &names {
+        if labels.iter().any(|l| l == name) {
+            println!("# {name} = \"{name}\"   # found under its own name");
+        } else {
+            let guess = gravline::body::model::closest_labels(name, &labels, 1);
+            match guess.first() {
+                Some(g) => println!("{name} = \"{g}\"   # closest label; check it"),
+                None => println!("# {name} = \"\"   # not found"),
+            }
+        }
+    }
+    let unused: Vec<&String> = labels.iter().filter(|l| !names.contains(l)).collect();
+    if !unused.is_empty() {
+        println!("# labels of the file not in the vocabulary: {}", unused.iter().map(|s| s.as_str()).collect::<Vec<_>>().join(", "));
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// Bundled example trials (examples/data/, made by `cargo run --example make_demo_data`).
+const DEMO_FILES: &[(&str, &str)] = &[
+    ("manifest.csv", include_str!("../examples/data/manifest.csv")),
+    ("walk.csv", include_str!("../examples/data/walk.csv")),
+    ("stand.csv", include_str!("../examples/data/stand.csv")),
+    ("squat.csv", include_str!("../examples/data/squat.csv")),
+    ("jump.csv", include_str!("../examples/data/jump.csv")),
+    ("squat-config.toml", include_str!("../examples/data/squat-config.toml")),
+    ("jump-config.toml", include_str!("../examples/data/jump-config.toml")),
+];
+
+fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
+    let inputs = a.out.join("inputs");
+    for (name, text) in DEMO_FILES {
+        let path = inputs.join(name);
+        gravline::report::write_atomic(&path, |w| w.write_all(text.as_bytes()))
+            .with_context(|| format!("cannot write {}", path.display()))?;
+    }
+    let manifest = inputs.join("manifest.csv");
+    let mut reader = csv::Reader::from_path(&manifest)?;
+    let headers = reader.headers()?.clone();
+    let col = |name: &str| headers.iter().position(|h| h == name);
+    let (Some(t), Some(m), Some(h), Some(s)) = (col("trial"), col("mass_kg"), col("height_m"), col("sex")) else {
+        bail!("{}: bundled manifest lacks trial/mass_kg/height_m/sex columns", manifest.display());
+    };
+    let c = col("config");
+    let sub = col("subject");
+    for record in reader.records() {
+        let r = record?;
+        let trial_path = inputs.join(&r[t]);
+        let mut setup_args = SetupArgs::default();
+        if let Some(c) = c.filter(|&c| !r[c].is_empty()) {
+            setup_args.config = Some(inputs.join(&r[c]));
+        }
+        let sex = Sex::parse(&r[s]).with_context(|| format!("bundled manifest: sex `{}`", &r[s]))?;
+        let mut subject = Subject::new(r[m].parse()?, r[h].parse()?, sex).validate("bundled manifest")?;
+        subject.name = sub.map(|i| r[i].to_string());
+        let setup = Setup::new(config(&setup_args)?, subject)?;
+        let stem = Path::new(&r[t]).file_stem().map_or("trial".into(), |s| s.to_string_lossy().into_owned());
+        let dir = a.out.join(&stem);
+        let options = OutputOptions { run: RunOptions::default(), plots: a.plots.formats() };
+        let summary = pipeline::process_file(&trial_path, &setup, &dir, &options)?;
+        ui.warnings(&stem, &summary.warnings);
+        println!("{}", trial_line(&summary));
+    }
+    ui.info(&format!("outputs in {}/<trial>/ (frames.csv, summary.json, steps.csv, plots)", a.out.display()));
+    ui.info(&format!("caution: {}", CAUTIONS[0]));
+    Ok(ExitCode::SUCCESS)
+}

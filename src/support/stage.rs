@@ -1,0 +1,378 @@
+//! The support stage of the pipeline: per-frame foot positions from the body model become the
+//! floor level, foot contact, the BoS polygon and the signed margins of the CoM and XCoM, and,
+//! for walking trials, gait events and per-step figures (DESIGN.md 7).
+//!
+//! - Floor: `[support] floor_m`, else the 2nd percentile of all foot-point heights.
+//! - Contact per foot: the lowest foot point within `contact_height_m` of the floor and the
+//!   slowest of heel and metatarsal heads below `contact_speed_m_s` ([`detect_contact`]).
+//! - BoS: convex hull of heel, toe, metatarsal heads and lateral malleolus of every foot in
+//!   contact, projected to the floor; no foot in contact = no BoS.
+//! - `bos_margin_m`: signed distance from the CoM's floor projection to the BoS boundary,
+//!   positive inside; `mos_m` the same from the XCoM (Hof et al. 2005, J Biomech 38:1-8).
+//!   `mos_ap_m`: distance from the XCoM to the anterior BoS edge along the progression
+//!   direction; `mos_ml_m`: distance to the nearer lateral edge across it.
+//! - Progression: the mean horizontal CoM velocity; for near-static trials (mean speed below
+//!   [`STATIC_SPEED_M_S`]) the mean heel-to-toe direction of the feet.
+//! - Events: Zeni et al. 2008 (Gait Posture 27:710) with the sacrum at the PSIS midpoint (or the
+//!   sacral marker). Steps: one per heel strike, with step length and width between the two
+//!   heels at heel strike, AP MoS at heel strike, the minimum ML MoS in the single stance that
+//!   follows (contralateral toe-off to contralateral heel strike) and the CoM vertical excursion
+//!   over the stride that starts there.
+//!
+//! Units: metres, seconds, m/s.
+
+use super::{
+    convex_hull, detect_contact, directional_margin, floor_level, signed_distance, zeni_events,
+    ContactThresholds, GaitEvents,
+};
+use crate::body::model::PointId;
+use crate::body::BodyModel;
+use crate::config::SupportConfig;
+use crate::signal::derivative;
+use crate::trial::UpAxis;
+use crate::warning::Warning;
+use nalgebra::Vector3;
+use serde::Serialize;
+
+/// Below this mean horizontal CoM speed a trial is near-static: progression comes from the
+/// feet (common practice, no source).
+pub const STATIC_SPEED_M_S: f64 = 0.2;
+/// Percentile of foot-point heights taken as the floor (DESIGN.md 7).
+pub const FLOOR_PERCENTILE: f64 = 2.0;
+
+/// Foot points, in this order, per side.
+pub const FOOT_STEMS: [&str; 6] = ["heel", "toe", "mt1", "mt2", "mt5", "ankle_lat"];
+const HEEL: usize = 0;
+const TOE: usize = 1;
+const MT2: usize = 3;
+
+/// Per-frame positions of the foot points and the sacrum, gathered while the body model is
+/// evaluated.
+#[derive(Clone, Debug, Default)]
+pub struct FootFrames {
+    ids: [[Option<PointId>; 6]; 2],
+    sacrum_id: Option<PointId>,
+    /// `points[side][k][frame]`, side 0 = left, k as [`FOOT_STEMS`].
+    pub points: [[Vec<Option<[f64; 3]>>; 6]; 2],
+    pub sacrum: Vec<Option<[f64; 3]>>,
+}
+
+impl FootFrames {
+    /// Looks the foot points up in the model (absent points stay empty).
+    pub fn new(body: &BodyModel, n_frames: usize) -> FootFrames {
+        let mut f = FootFrames { sacrum_id: body.point("mid_psis"), ..Default::default() };
+        for (s, prefix) in ["l_", "r_"].iter().enumerate() {
+            for (k, stem) in FOOT_STEMS.iter().enumerate() {
+                f.ids[s][k] = body.point(&format!("{prefix}{stem}"));
+                if f.ids[s][k].is_some() {
+                    f.points[s][k].reserve(n_frames);
+                }
+            }
+        }
+        f
+    }
+
+    /// Appends one frame of the body model's evaluation.
+    pub fn push(&mut self, points: &[Option<Vector3<f64>>]) {
+        let get = |id: Option<PointId>| id.and_then(|i| points.get(i).copied().flatten()).map(|p| [p.x, p.y, p.z]);
+        for s in 0..2 {
+            for k in 0..6 {
+                if self.ids[s][k].is_some() {
+                    self.points[s][k].push(get(self.ids[s][k]));
+                }
+            }
+        }
+        if self.sacrum_id.is_some() {
+            self.sacrum.push(get(self.sacrum_id));
+        }
+    }
+
+    /// Whether any foot point was found.
+    pub fn has_feet(&self) -> bool {
+        self.ids.iter().flatten().any(Option::is_some)
+    }
+
+    fn at(&self, side: usize, k: usize, frame: usize) -> Option<[f64; 3]> {
+        self.points[side][k].get(frame).copied().flatten()
+    }
+}
+
+/// One step: from a heel strike of `side` (DESIGN.md 7).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Step {
+    pub side: &'static str,
+    pub heel_strike_s: f64,
+    /// The same foot's next toe-off.
+    pub toe_off_s: Option<f64>,
+    /// Heel-to-heel distance along progression at heel strike.
+    pub step_length_m: Option<f64>,
+    /// Heel-to-heel distance across progression at heel strike.
+    pub step_width_m: Option<f64>,
+    pub mos_ap_heel_strike_m: Option<f64>,
+    pub min_mos_ml_single_stance_m: Option<f64>,
+    /// Vertical CoM range from this heel strike to the same foot's next one.
+    pub com_vertical_excursion_m: Option<f64>,
+}
+
+/// BoS and margins of one trial.
+#[derive(Clone, Debug, Default)]
+pub struct SupportSeries {
+    /// Floor level along the up axis, metres.
+    pub floor_m: f64,
+    /// `contact[side][frame]`, side 0 = left.
+    pub contact: [Vec<bool>; 2],
+    pub bos_area_m2: Vec<Option<f64>>,
+    pub bos_margin_m: Vec<Option<f64>>,
+    pub mos_m: Vec<Option<f64>>,
+    pub mos_ap_m: Vec<Option<f64>>,
+    pub mos_ml_m: Vec<Option<f64>>,
+    /// Unit progression direction in the floor plane.
+    pub progression: Option<[f64; 2]>,
+    /// BoS outlines (frame, vertices) at contact changes, or every second for static trials.
+    pub outlines: Vec<(usize, Vec<[f64; 2]>)>,
+    /// Footprints: (side, frame, vertices of the foot's own hull) at each contact onset.
+    pub footprints: Vec<(usize, usize, Vec<[f64; 2]>)>,
+    pub events: [GaitEvents; 2],
+    pub steps: Vec<Step>,
+    pub warnings: Vec<Warning>,
+}
+
+/// Floor level: configured, or the 2nd percentile of foot-point heights (0 without feet).
+pub fn floor_m(foot: &FootFrames, up: UpAxis, config: &SupportConfig) -> (f64, Option<Warning>) {
+    if let Some(f) = config.floor_m {
+        return (f, None);
+    }
+    let heights = foot.points.iter().flatten().flatten().flatten().map(|p| up.height(p));
+    match floor_level(heights, FLOOR_PERCENTILE) {
+        Some(f) => (f, None),
+        None => (
+            0.0,
+            Some(Warning::Approximation {
+                what: "no foot markers: floor taken at the lab origin, no base of support".to_string(),
+            }),
+        ),
+    }
+}
+
+/// Contact thresholds from the configuration, defaults where unset.
+pub fn thresholds(config: &SupportConfig) -> ContactThresholds {
+    let d = ContactThresholds::default();
+    ContactThresholds {
+        height_m: config.contact_height_m.unwrap_or(d.height_m),
+        speed_m_s: config.contact_speed_m_s.unwrap_or(d.speed_m_s),
+        min_contact_s: config.min_contact_s.unwrap_or(d.min_contact_s),
+        min_flight_s: config.min_flight_s.unwrap_or(d.min_flight_s),
+    }
+}
+
+/// Runs the support stage (module doc). `com`, `velocity` and `xcom` are per frame, lab frame.
+#[allow(clippy::too_many_arguments)]
+pub fn analyse(
+    foot: &FootFrames,
+    com: &[Option<[f64; 3]>],
+    velocity: &[Option<[f64; 3]>],
+    xcom: &[Option<[f64; 3]>],
+    floor: f64,
+    up: UpAxis,
+    times_s: &[f64],
+    rate_hz: f64,
+    config: &SupportConfig,
+) -> SupportSeries {
+    let n = com.len();
+    let mut out = SupportSeries { floor_m: floor, ..Default::default() };
+    let t = thresholds(config);
+    let dt = 1.0 / rate_hz;
+    for side in 0..2 {
+        let mut height = vec![None; n];
+        let mut speed: Vec<Option<f64>> = vec![None; n];
+        for k in 0..FOOT_STEMS.len() {
+            let series = &foot.points[side][k];
+            if series.is_empty() {
+                continue;
+            }
+            for (f, p) in series.iter().enumerate() {
+                if let Some(p) = p {
+                    let h = up.height(p) - floor;
+                    height[f] = Some(height[f].map_or(h, |m: f64| m.min(h)));
+                }
+            }
+            // Heel and metatarsal heads decide how slow the foot is (toe and malleolus do not).
+            if matches!(FOOT_STEMS[k], "heel" | "mt1" | "mt2" | "mt5") {
+                let (v, _) = derivative::of_series(series, dt);
+                for (f, v) in v.iter().enumerate() {
+                    if let Some(v) = v {
+                        let s = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+                        speed[f] = Some(speed[f].map_or(s, |m: f64| m.min(s)));
+                    }
+                }
+            }
+        }
+        out.contact[side] = detect_contact(&height, &speed, rate_hz, &t);
+        out.contact[side].resize(n, false);
+    }
+    out.progression = progression(foot, velocity, up);
+    let ml = out.progression.map(|[x, y]| [-y, x]);
+
+    out.bos_area_m2.reserve(n);
+    let mut previous = [false, false];
+    let mut last_outline: Option<usize> = None;
+    let static_trial = mean_speed(velocity, up) < STATIC_SPEED_M_S;
+    let mut pts: Vec<[f64; 2]> = Vec::with_capacity(12);
+    for f in 0..n {
+        pts.clear();
+        let now = [out.contact[0][f], out.contact[1][f]];
+        for side in 0..2 {
+            if now[side] {
+                let before = pts.len();
+                pts.extend((0..FOOT_STEMS.len()).filter_map(|k| foot.at(side, k, f)).map(|p| up.horizontal(&p)));
+                if !previous[side] {
+                    out.footprints.push((side, f, convex_hull(&pts[before..]).vertices()));
+                }
+            }
+        }
+        let hull = convex_hull(&pts);
+        let changed = now != previous;
+        let due = static_trial && last_outline.is_none_or(|l| f >= l + rate_hz.round() as usize);
+        if !hull.is_empty() && (changed || due) {
+            out.outlines.push((f, hull.vertices()));
+            last_outline = Some(f);
+        }
+        previous = now;
+        out.bos_area_m2.push(hull.area_m2());
+        let c = com.get(f).copied().flatten().map(|c| up.horizontal(&c));
+        out.bos_margin_m.push(c.and_then(|c| signed_distance(&hull, c)));
+        let xi = xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
+        out.mos_m.push(xi.and_then(|x| signed_distance(&hull, x)));
+        let along = |d: Option<[f64; 2]>| xi.zip(d).and_then(|(x, d)| directional_margin(&hull, x, d));
+        out.mos_ap_m.push(along(out.progression).map(|m| m.ahead_m));
+        out.mos_ml_m.push(along(ml).map(|m| m.nearer_m()));
+    }
+    if !foot.has_feet() {
+        out.warnings.push(Warning::Approximation {
+            what: "no foot markers (heel, toe, mt1/2/5, ankle_lat): no base of support".to_string(),
+        });
+    }
+    if let Some(prog) = out.progression {
+        if !static_trial && !foot.sacrum.is_empty() {
+            gait(&mut out, foot, com, up, times_s, rate_hz, prog);
+        }
+    }
+    out
+}
+
+fn mean_speed(velocity: &[Option<[f64; 3]>], up: UpAxis) -> f64 {
+    let (mut sum, mut n) = ([0.0, 0.0], 0usize);
+    for v in velocity.iter().flatten() {
+        let h = up.horizontal(v);
+        sum[0] += h[0];
+        sum[1] += h[1];
+        n += 1;
+    }
+    if n == 0 {
+        return 0.0;
+    }
+    (sum[0] * sum[0] + sum[1] * sum[1]).sqrt() / n as f64
+}
+
+/// Progression direction (module doc).
+fn progression(foot: &FootFrames, velocity: &[Option<[f64; 3]>], up: UpAxis) -> Option<[f64; 2]> {
+    let (mut sum, mut n) = ([0.0, 0.0], 0usize);
+    for v in velocity.iter().flatten() {
+        let h = up.horizontal(v);
+        sum = [sum[0] + h[0], sum[1] + h[1]];
+        n += 1;
+    }
+    if n > 0 && (sum[0] * sum[0] + sum[1] * sum[1]).sqrt() / n as f64 >= STATIC_SPEED_M_S {
+        return unit(sum);
+    }
+    let mut dir = [0.0, 0.0];
+    for side in 0..2 {
+        let front = if foot.points[side][TOE].is_empty() { MT2 } else { TOE };
+        for f in 0..foot.points[side][HEEL].len() {
+            if let (Some(h), Some(t)) = (foot.at(side, HEEL, f), foot.at(side, front, f)) {
+                let (h, t) = (up.horizontal(&h), up.horizontal(&t));
+                dir = [dir[0] + t[0] - h[0], dir[1] + t[1] - h[1]];
+            }
+        }
+    }
+    unit(dir)
+}
+
+fn unit(v: [f64; 2]) -> Option<[f64; 2]> {
+    let n = (v[0] * v[0] + v[1] * v[1]).sqrt();
+    (n > 1e-9).then(|| [v[0] / n, v[1] / n])
+}
+
+fn dot(a: [f64; 2], b: [f64; 2]) -> f64 {
+    a[0] * b[0] + a[1] * b[1]
+}
+
+/// Gait events and steps (module doc).
+fn gait(
+    out: &mut SupportSeries,
+    foot: &FootFrames,
+    com: &[Option<[f64; 3]>],
+    up: UpAxis,
+    times_s: &[f64],
+    rate_hz: f64,
+    prog: [f64; 2],
+) {
+    let n = com.len();
+    let along = |side: usize, k: usize| -> Vec<Option<f64>> {
+        (0..n)
+            .map(|f| {
+                let p = foot.at(side, k, f)?;
+                let s = foot.sacrum.get(f).copied().flatten()?;
+                Some(dot(up.horizontal(&p), prog) - dot(up.horizontal(&s), prog))
+            })
+            .collect()
+    };
+    for side in 0..2 {
+        let toe = if foot.points[side][TOE].is_empty() { MT2 } else { TOE };
+        if foot.points[side][HEEL].is_empty() || foot.points[side][toe].is_empty() {
+            return;
+        }
+        out.events[side] = zeni_events(&along(side, HEEL), &along(side, toe), rate_hz);
+    }
+    let ml = [-prog[1], prog[0]];
+    let time = |f: usize| times_s.get(f).copied().unwrap_or(f as f64 / rate_hz);
+    let mut steps = Vec::new();
+    for side in 0..2 {
+        let other = 1 - side;
+        let hs = &out.events[side].heel_strikes;
+        for (i, &f) in hs.iter().enumerate() {
+            let heel = foot.at(side, HEEL, f).map(|p| up.horizontal(&p));
+            let other_heel = foot.at(other, HEEL, f).map(|p| up.horizontal(&p));
+            let d = heel.zip(other_heel).map(|(a, b)| [a[0] - b[0], a[1] - b[1]]);
+            let toe_off = out.events[side].toe_offs.iter().copied().find(|&t| t > f);
+            // Single stance on `side`: from the other foot's toe-off to its next heel strike.
+            let other_to = out.events[other].toe_offs.iter().copied().find(|&t| t > f);
+            let other_hs = other_to.and_then(|t0| out.events[other].heel_strikes.iter().copied().find(|&h| h > t0));
+            let min_ml = match (other_to, other_hs) {
+                (Some(a), Some(b)) => out.mos_ml_m[a..b.min(n)].iter().flatten().copied().reduce(f64::min),
+                _ => None,
+            };
+            let excursion = hs.get(i + 1).and_then(|&next| {
+                let heights: Vec<f64> = com[f..next.min(n)].iter().flatten().map(|c| up.height(c)).collect();
+                if heights.len() + 1 < next - f {
+                    return None;
+                }
+                let max = heights.iter().copied().reduce(f64::max)?;
+                let min = heights.iter().copied().reduce(f64::min)?;
+                Some(max - min)
+            });
+            steps.push(Step {
+                side: if side == 0 { "left" } else { "right" },
+                heel_strike_s: time(f),
+                toe_off_s: toe_off.map(time),
+                step_length_m: d.map(|d| dot(d, prog).abs()),
+                step_width_m: d.map(|d| dot(d, ml).abs()),
+                mos_ap_heel_strike_m: out.mos_ap_m.get(f).copied().flatten(),
+                min_mos_ml_single_stance_m: min_ml,
+                com_vertical_excursion_m: excursion,
+            });
+        }
+    }
+    steps.sort_by(|a, b| a.heel_strike_s.total_cmp(&b.heel_strike_s));
+    out.steps = steps;
+}
