@@ -1,0 +1,201 @@
+//! Stage 5, foot contact: which frames each foot is on the floor, from how high and how fast
+//! its markers are (DESIGN.md 7: "foot markers near the floor and slow").
+//!
+//! Inputs, per foot and per frame: the foot's height above the floor in metres (the lowest of
+//! its markers minus [`floor_level`]) and its speed in m/s (for example the speed of the slowest
+//! of its contact markers, heel and metatarsal heads, as the real-data test does: then the heel
+//! governs contact and the forefoot toe-off, as in Ghoussayni 2004), both `None` where unknown;
+//! the frame rate in Hz. Outputs: one `bool` per frame, and the contact runs as (on, off) frame
+//! ranges.
+//!
+//! Sources of the thresholds ([`ContactThresholds::default`]):
+//! - speed 0.5 m/s: the velocity-threshold family of methods.md 3, Ghoussayni et al. 2004
+//!   (contact when the heel speed drops below 0.5 m/s, off when the toe speed rises above
+//!   0.5 m/s), as tabulated by Bonci et al. 2022 (doi 10.3389/fbioe.2022.868928).
+//! - height 30 mm: common practice, no source. methods.md 2 quotes a marker "within roughly
+//!   10-20 mm of its static-trial height" (from memory); our reference is the floor level, taken
+//!   at the lowest markers (the heel's), and the lowest marker of a forefoot-loaded foot sits up
+//!   to about 15 mm above it (5th/2nd metatarsal heads in the walking recording of the tests),
+//!   hence 20 mm + 10 mm.
+//! - minimum contact 50 ms and minimum flight 50 ms: common practice, no source. Ground contacts
+//!   last at least about 80 ms even in sprinting and a foot's flight at least about 100 ms
+//!   (from memory), so shorter runs are noise: impact transients at heel strike and threshold
+//!   crossings during toe-off.
+//!
+//! The floor level is a sample percentile by linear interpolation between order statistics
+//! (Hyndman & Fan 1996, "Sample quantiles in statistical packages", Am Stat 50:361-365,
+//! definition 7, the default of numpy's `percentile`); DESIGN.md 7 takes the 2nd percentile of
+//! the foot-marker heights.
+
+/// Thresholds of [`detect_contact`]; see the module doc for the sources of the defaults.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ContactThresholds {
+    /// A foot is near the floor when its height is below this, in metres (default 0.03).
+    pub height_m: f64,
+    /// A foot is slow when its speed is below this, in m/s (default 0.5, Ghoussayni 2004).
+    pub speed_m_s: f64,
+    /// Contact runs shorter than this are removed, in seconds (default 0.05).
+    pub min_contact_s: f64,
+    /// Flight gaps shorter than this between two contacts are filled, in seconds (default 0.05).
+    pub min_flight_s: f64,
+}
+
+impl Default for ContactThresholds {
+    fn default() -> Self {
+        ContactThresholds {
+            height_m: 0.03,
+            speed_m_s: 0.5,
+            min_contact_s: 0.05,
+            min_flight_s: 0.05,
+        }
+    }
+}
+
+/// Per-frame contact of one foot.
+///
+/// A frame is in contact when both its height is below `t.height_m` and its speed is below
+/// `t.speed_m_s`; a frame with a missing (`None`) or non-finite height or speed is not in
+/// contact, and frames past the end of the shorter slice count as missing (the result has the
+/// length of the longer one). Then two passes remove flickers, in this order:
+/// 1. flight gaps shorter than `t.min_flight_s` between two contact runs are filled, unless the
+///    gap holds a missing frame (contact is never invented where data are missing);
+/// 2. contact runs shorter than `t.min_contact_s` are removed, except runs that touch the first
+///    or last frame (they are cut by the recording, their length is unknown).
+///
+/// Gaps are filled first so that an impact transient just after heel strike (speed briefly above
+/// the threshold) cannot split the start of a real contact into a short run that pass 2 would
+/// delete; isolated slow frames in swing stay short after pass 1 and are removed by pass 2.
+/// A duration of n frames is n / `rate_hz` seconds; a non-finite or non-positive `rate_hz`
+/// (rejected upstream when the trial is read) disables both passes.
+///
+/// ```
+/// use gravline::support::{detect_contact, ContactThresholds};
+/// let h = [Some(0.1), Some(0.0), Some(0.0), Some(0.0), Some(0.1)];
+/// let v = [Some(0.0); 5];
+/// let t = ContactThresholds { min_contact_s: 0.0, min_flight_s: 0.0, ..Default::default() };
+/// assert_eq!(detect_contact(&h, &v, 100.0, &t), [false, true, true, true, false]);
+/// ```
+pub fn detect_contact(
+    height_m: &[Option<f64>],
+    speed_m_s: &[Option<f64>],
+    rate_hz: f64,
+    t: &ContactThresholds,
+) -> Vec<bool> {
+    let n = height_m.len().max(speed_m_s.len());
+    let sample =
+        |s: &[Option<f64>], i: usize| s.get(i).copied().flatten().filter(|x| x.is_finite());
+    let known: Vec<bool> = (0..n)
+        .map(|i| sample(height_m, i).is_some() && sample(speed_m_s, i).is_some())
+        .collect();
+    let mut contact: Vec<bool> = (0..n)
+        .map(|i| match (sample(height_m, i), sample(speed_m_s, i)) {
+            (Some(h), Some(v)) => h < t.height_m && v < t.speed_m_s,
+            _ => false,
+        })
+        .collect();
+    if !(rate_hz.is_finite() && rate_hz > 0.0) {
+        return contact;
+    }
+    let shorter_than = |frames: usize, min_s: f64| (frames as f64) < min_s * rate_hz;
+
+    // Pass 1: fill short interior flight gaps without missing frames.
+    let gaps = transitions(&contact.iter().map(|c| !c).collect::<Vec<_>>());
+    for (on, off) in gaps {
+        let interior = on > 0 && off < n;
+        if interior && shorter_than(off - on, t.min_flight_s) && known[on..off].iter().all(|k| *k) {
+            contact[on..off].iter_mut().for_each(|c| *c = true);
+        }
+    }
+    // Pass 2: remove short contact runs that the recording does not cut.
+    for (on, off) in transitions(&contact) {
+        let interior = on > 0 && off < n;
+        if interior && shorter_than(off - on, t.min_contact_s) {
+            contact[on..off].iter_mut().for_each(|c| *c = false);
+        }
+    }
+    contact
+}
+
+/// Runs of `true` as (on frame, off frame exclusive): `contact[on..off]` is all `true`, and the
+/// frames just outside (where they exist) are `false`.
+///
+/// ```
+/// use gravline::support::transitions;
+/// assert_eq!(transitions(&[true, false, true, true, false]), [(0, 1), (2, 4)]);
+/// ```
+pub fn transitions(contact: &[bool]) -> Vec<(usize, usize)> {
+    let mut runs = Vec::new();
+    let mut start = None;
+    for (i, &c) in contact.iter().enumerate() {
+        match (c, start) {
+            (true, None) => start = Some(i),
+            (false, Some(s)) => {
+                runs.push((s, i));
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    if let Some(s) = start {
+        runs.push((s, contact.len()));
+    }
+    runs
+}
+
+/// Floor level in metres: the `percentile` (0-100) of the foot-marker heights, by linear
+/// interpolation between order statistics (Hyndman & Fan 1996 definition 7, numpy's default):
+/// with the n finite heights sorted as x_0 <= ... <= x_(n-1) and r = percentile/100·(n − 1),
+/// the level is x_⌊r⌋ + (r − ⌊r⌋)·(x_⌊r⌋+1 − x_⌊r⌋).
+///
+/// Non-finite heights are skipped. `None` when no finite height is left or `percentile` is not
+/// within 0-100. DESIGN.md 7 uses `percentile = 2.0`.
+///
+/// ```
+/// use gravline::support::floor_level;
+/// assert_eq!(floor_level([4.0, 1.0, 3.0, 2.0].into_iter(), 50.0), Some(2.5));
+/// ```
+pub fn floor_level(heights_m: impl Iterator<Item = f64>, percentile: f64) -> Option<f64> {
+    if !(0.0..=100.0).contains(&percentile) {
+        return None;
+    }
+    let mut x: Vec<f64> = heights_m.filter(|h| h.is_finite()).collect();
+    if x.is_empty() {
+        return None;
+    }
+    x.sort_by(f64::total_cmp);
+    let r = percentile / 100.0 * (x.len() - 1) as f64;
+    let lo = r.floor() as usize;
+    let frac = r - r.floor();
+    let below = x[lo];
+    Some(match x.get(lo + 1) {
+        Some(above) if frac > 0.0 => below + frac * (above - below),
+        _ => below,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_short_gap_holding_a_missing_frame_is_not_filled() {
+        let h = [Some(0.0), Some(0.0), None, Some(0.0), Some(0.0)];
+        let v = [Some(0.0); 5];
+        let t = ContactThresholds {
+            min_contact_s: 0.0,
+            min_flight_s: 1.0,
+            ..Default::default()
+        };
+        assert_eq!(
+            detect_contact(&h, &v, 100.0, &t),
+            [true, true, false, true, true]
+        );
+    }
+
+    #[test]
+    fn floor_level_rejects_a_percentile_outside_0_to_100() {
+        assert_eq!(floor_level([1.0].into_iter(), 100.5), None);
+        assert_eq!(floor_level([1.0].into_iter(), f64::NAN), None);
+        assert_eq!(floor_level([f64::NAN].into_iter(), 2.0), None);
+    }
+}

@@ -1,0 +1,221 @@
+//! Stage 5, gait events of walking trials: heel strikes and toe-offs of one foot from marker
+//! coordinates alone.
+//!
+//! Inputs, per frame: the heel's and the toe's position relative to the sacrum (the mean of the
+//! two PSIS markers), projected on the unit direction of progression, in metres, `None` where
+//! unknown; the frame rate in Hz. Output: [`GaitEvents`], frame indices.
+//!
+//! Method: the coordinate algorithm of Zeni, Richards & Higginson (2008), "Two simple methods
+//! for determining gait events during treadmill and overground walking using kinematic data",
+//! Gait Posture 27:710-714, doi 10.1016/j.gaitpost.2007.07.007 (methods.md 3): heel strike at a
+//! local maximum of heel − sacrum, toe-off at a local minimum of toe − sacrum. The peak
+//! conditions are the knobs of public implementations (methods.md 3, secondary source): the mean
+//! is subtracted first, a peak must stand at least 10 % of the signal's range above the mean and
+//! be at least as prominent, and peaks closer than 0.25 s keep only the higher one
+//! ([`ZeniOptions::default`]). Events are whole frames; no sub-frame refinement.
+//!
+//! Peak rules, after scipy's `find_peaks`: a flat top (a plateau of equal samples) counts once,
+//! at its middle frame (rounded down); a peak needs a known, strictly lower sample on both sides,
+//! so a maximum at either end of the series or next to a missing frame is not an event (it may
+//! lie in the gap). Prominence is the peak's height above the higher of the two lowest points
+//! reached on each side before a higher sample, missing frames skipped. Unlike scipy, a side
+//! that reaches the end of the series without a higher sample sets no base, so a heel strike in
+//! the first or last step of a short recording keeps its prominence.
+//!
+//! Accuracy: Zeni et al. report 98 % of overground events within 2 frames at 60 Hz (33 ms). On
+//! the real walk of the tests (150 Hz, force plates) the heel strikes come 4-7 frames (27-47 ms)
+//! before plate contact, since the heel is farthest ahead of the pelvis in terminal swing, just
+//! before it lands; the toe-offs come 1-4 frames (7-27 ms) after the plate unloads.
+
+/// Heel strikes and toe-offs of one foot, as frame indices in increasing order.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct GaitEvents {
+    /// Frames of the maxima of heel − sacrum.
+    pub heel_strikes: Vec<usize>,
+    /// Frames of the minima of toe − sacrum.
+    pub toe_offs: Vec<usize>,
+}
+
+/// Peak conditions of [`zeni_events_with`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ZeniOptions {
+    /// Of two peaks closer than this, in seconds, only the higher is kept (default 0.25 s).
+    pub min_peak_distance_s: f64,
+    /// Minimum height above the mean and minimum prominence of a peak, as a fraction of the
+    /// signal's range (default 0.10).
+    pub min_relative_height: f64,
+}
+
+impl Default for ZeniOptions {
+    fn default() -> Self {
+        ZeniOptions {
+            min_peak_distance_s: 0.25,
+            min_relative_height: 0.10,
+        }
+    }
+}
+
+/// Zeni et al. 2008 events with the default [`ZeniOptions`]: heel strikes at the maxima of
+/// `heel_rel_m`, toe-offs at the minima of `toe_rel_m` (both heel/toe − sacrum along the
+/// direction of progression, metres), frames at `rate_hz`.
+pub fn zeni_events(
+    heel_rel_m: &[Option<f64>],
+    toe_rel_m: &[Option<f64>],
+    rate_hz: f64,
+) -> GaitEvents {
+    zeni_events_with(heel_rel_m, toe_rel_m, rate_hz, &ZeniOptions::default())
+}
+
+/// [`zeni_events`] with explicit peak conditions. A non-finite or non-positive `rate_hz`
+/// (rejected upstream when the trial is read) disables the distance condition.
+///
+/// ```
+/// use gravline::support::zeni_events;
+/// // one stride at 100 Hz: the heel is farthest ahead at frame 25, the toe farthest back at 75
+/// let heel: Vec<_> = (0..100).map(|i| Some((std::f64::consts::TAU * (i as f64 - 25.0) / 100.0).cos())).collect();
+/// let toe: Vec<_> = heel.iter().map(|h| h.map(|x| 0.1 + x)).collect();
+/// let events = zeni_events(&heel, &toe, 100.0);
+/// assert_eq!((events.heel_strikes, events.toe_offs), (vec![25], vec![75]));
+/// ```
+pub fn zeni_events_with(
+    heel_rel_m: &[Option<f64>],
+    toe_rel_m: &[Option<f64>],
+    rate_hz: f64,
+    options: &ZeniOptions,
+) -> GaitEvents {
+    let negated: Vec<Option<f64>> = toe_rel_m.iter().map(|x| x.map(|v| -v)).collect();
+    GaitEvents {
+        heel_strikes: find_peaks(heel_rel_m, rate_hz, options),
+        toe_offs: find_peaks(&negated, rate_hz, options),
+    }
+}
+
+/// Local maxima of `y` (non-finite samples count as missing) meeting the Zeni conditions.
+fn find_peaks(y: &[Option<f64>], rate_hz: f64, options: &ZeniOptions) -> Vec<usize> {
+    let y: Vec<Option<f64>> = y.iter().map(|x| x.filter(|v| v.is_finite())).collect();
+    let known: Vec<f64> = y.iter().flatten().copied().collect();
+    if known.len() < 3 {
+        return Vec::new();
+    }
+    let mean = known.iter().sum::<f64>() / known.len() as f64;
+    let (lo, hi) = known
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+            (lo.min(*v), hi.max(*v))
+        });
+    let range = hi - lo;
+    if range <= 0.0 || !range.is_finite() {
+        return Vec::new();
+    }
+    let min_height = options.min_relative_height * range;
+
+    // Candidates: strict local maxima and the middles of flat tops.
+    let mut peaks = Vec::new();
+    let mut i = 1;
+    while i + 1 < y.len() {
+        let (Some(prev), Some(here)) = (y[i - 1], y[i]) else {
+            i += 1;
+            continue;
+        };
+        if here <= prev {
+            i += 1;
+            continue;
+        }
+        let mut end = i;
+        while end + 1 < y.len() && y[end + 1] == Some(here) {
+            end += 1;
+        }
+        if let Some(Some(next)) = y.get(end + 1) {
+            if *next < here {
+                peaks.push((i + end) / 2);
+            }
+        }
+        i = end + 1;
+    }
+
+    peaks.retain(|&p| {
+        let v = y[p].unwrap_or(f64::NEG_INFINITY);
+        v - mean >= min_height && prominence(&y, p, v) >= min_height
+    });
+
+    // Distance: the highest peaks first; each removes the lower ones closer than the minimum.
+    if rate_hz.is_finite() && rate_hz > 0.0 && options.min_peak_distance_s > 0.0 {
+        let mut order: Vec<usize> = (0..peaks.len()).collect();
+        let height = |k: usize| y[peaks[k]].unwrap_or(f64::NEG_INFINITY);
+        order.sort_by(|&a, &b| height(b).total_cmp(&height(a)).then(a.cmp(&b)));
+        let mut keep = vec![true; peaks.len()];
+        for &k in &order {
+            if !keep[k] {
+                continue;
+            }
+            for (j, kept) in keep.iter_mut().enumerate() {
+                let apart_s = peaks[j].abs_diff(peaks[k]) as f64 / rate_hz;
+                if j != k && apart_s < options.min_peak_distance_s {
+                    *kept = false;
+                }
+            }
+        }
+        let mut k = 0;
+        peaks.retain(|_| {
+            k += 1;
+            keep[k - 1]
+        });
+    }
+    peaks
+}
+
+/// Prominence of the peak at `p` with value `v`, missing samples skipped: on each side, the
+/// lowest point before a higher sample; a side that reaches the end of the series first sets no
+/// base (the signal may fall lower beyond the recording), unless both do.
+fn prominence(y: &[Option<f64>], p: usize, v: f64) -> f64 {
+    // (lowest point, whether the end of the series was reached before a higher sample)
+    let side = |iter: &mut dyn Iterator<Item = &Option<f64>>| {
+        let mut lowest = v;
+        for x in iter.flatten() {
+            if *x > v {
+                return (lowest, false);
+            }
+            lowest = lowest.min(*x);
+        }
+        (lowest, true)
+    };
+    let (left, left_open) = side(&mut y[..p].iter().rev());
+    let (right, right_open) = side(&mut y[p + 1..].iter());
+    let base = match (left_open, right_open) {
+        (true, true) => left.min(right),
+        (true, false) => right,
+        (false, true) => left,
+        (false, false) => left.max(right),
+    };
+    v - base
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_flat_top_counts_once_at_its_middle() {
+        let y: Vec<Option<f64>> = [0.0, 1.0, 3.0, 3.0, 3.0, 3.0, 1.0, 0.0]
+            .iter()
+            .map(|v| Some(*v))
+            .collect();
+        assert_eq!(find_peaks(&y, 1.0, &ZeniOptions::default()), [3]);
+    }
+
+    #[test]
+    fn a_peak_near_the_start_keeps_its_prominence() {
+        let y: Vec<Option<f64>> = [0.9, 1.0, 0.5, 0.0, -1.0, 0.0, 0.5, 1.1, 0.5, 0.0]
+            .iter()
+            .map(|v| Some(*v))
+            .collect();
+        // scipy's prominence of frame 1 would be 1.0 - 0.9 = 0.1, below 10 % of the range (0.21)
+        assert_eq!(find_peaks(&y, 1.0, &ZeniOptions::default()), [1, 7]);
+    }
+
+    #[test]
+    fn a_maximum_next_to_a_missing_frame_is_not_a_peak() {
+        let y = [Some(0.0), Some(1.0), Some(2.0), None, Some(1.0), Some(0.0)];
+        assert!(find_peaks(&y, 1.0, &ZeniOptions::default()).is_empty());
+    }
+}
