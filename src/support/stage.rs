@@ -10,7 +10,9 @@
 //! - `bos_margin_m`: signed distance from the CoM's floor projection to the BoS boundary,
 //!   positive inside; `mos_m` the same from the XCoM (Hof et al. 2005, J Biomech 38:1-8).
 //!   `mos_ap_m`: distance from the XCoM to the anterior BoS edge along the progression
-//!   direction; `mos_ml_m`: distance to the nearer lateral edge across it.
+//!   direction; `mos_ml_m`: in single stance the distance to the stance foot's lateral edge
+//!   along its outward direction (positive while the XCoM is medial to that edge), in double
+//!   stance the distance to the nearer lateral edge.
 //! - Progression: the mean horizontal CoM velocity; for near-static trials (mean speed below
 //!   [`STATIC_SPEED_M_S`]) the mean heel-to-toe direction of the feet.
 //! - Events: Zeni et al. 2008 (Gait Posture 27:710) with the sacrum at the PSIS midpoint (or the
@@ -245,7 +247,14 @@ pub fn analyse(
         out.mos_m.push(xi.and_then(|x| signed_distance(&hull, x)));
         let along = |d: Option<[f64; 2]>| xi.zip(d).and_then(|(x, d)| directional_margin(&hull, x, d));
         out.mos_ap_m.push(along(out.progression).map(|m| m.ahead_m));
-        out.mos_ml_m.push(along(ml).map(|m| m.nearer_m()));
+        // ML: in single stance the margin to the stance foot's lateral edge (outward along the
+        // stance side, Hof 2005 / methods.md 2); in double stance the nearer lateral edge.
+        let ml_margin = match now {
+            [true, false] => along(ml).map(|m| m.ahead_m),
+            [false, true] => along(ml).map(|m| m.behind_m),
+            _ => along(ml).map(|m| m.nearer_m()),
+        };
+        out.mos_ml_m.push(ml_margin);
     }
     if !foot.has_feet() {
         out.warnings.push(Warning::Approximation {
