@@ -201,6 +201,8 @@ impl RawMarkers {
 pub struct Trial {
     /// File stem, used to name the output folder.
     pub name: String,
+    /// The file as named in messages (its path as given).
+    pub file: String,
     /// Frame times, strictly increasing, in seconds.
     pub times_s: Vec<Seconds>,
     /// Sampling rate, from the times or given, in Hz.
@@ -1470,6 +1472,7 @@ fn read_impl<R: Read>(
     };
     Ok(Trial {
         name: stem.to_string(),
+        file: ctx.file.to_string(),
         times_s,
         rate_hz,
         up_axis: opts.up_axis,

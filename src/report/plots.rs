@@ -12,6 +12,11 @@ pub enum PlotFormat {
 }
 
 /// Writes the figures of one trial into `dir`.
-pub fn write_plots(_dir: &Path, _result: &TrialResult, _summary: &Summary, _format: PlotFormat) -> Result<(), Error> {
+pub fn write_plots(
+    _dir: &Path,
+    _result: &TrialResult,
+    _summary: &Summary,
+    _format: PlotFormat,
+) -> Result<(), Error> {
     Ok(())
 }

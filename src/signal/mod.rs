@@ -13,6 +13,7 @@
 //! Units: seconds, hertz, metres.
 
 pub mod butterworth;
+pub mod cutoff;
 pub mod derivative;
 pub mod gapfill;
 pub mod residual;
