@@ -180,7 +180,7 @@ impl Outcome {
     pub fn describe(&self) -> String {
         let files: Vec<String> = self.files.iter().map(|f| f.display().to_string()).collect();
         format!(
-            "batch: {} trials, {} ok ({} run, {} skipped: unchanged since an earlier run), {} failed; summary in {}",
+            "batch: {} trials, {} ok ({} run, {} skipped as unchanged since an earlier run), {} failed; summary in {}",
             self.rows.len(),
             self.rows.len() - self.failed,
             self.ran,
