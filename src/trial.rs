@@ -266,7 +266,8 @@ impl fmt::Display for Column {
 pub enum TrialError {
     /// The file could not be opened or read.
     #[error(
-        "{file}: cannot read the file ({error}); check the path and that it is a readable file"
+        "{file}: cannot read the file ({}); check the path and that it is a readable file",
+        error.to_string().to_lowercase()
     )]
     Io { file: String, error: io::Error },
 

@@ -674,6 +674,21 @@ fn error_rate_problems() {
 }
 
 #[test]
+fn error_missing_file() {
+    let path = fixture("trial_absent.csv");
+    let e = read_trial(&path, &mm()).expect_err("no such file");
+    assert!(matches!(e, TrialError::Io { .. }), "{e}");
+    assert_message(
+        &e,
+        &[
+            &path.display().to_string(),
+            "no such file",
+            "check the path",
+        ],
+    );
+}
+
+#[test]
 fn error_no_marker_columns() {
     let e = error_of(b"time,force_n\n0,1\n0.01,1\n", &mm());
     assert!(matches!(e, TrialError::NoMarkers { .. }), "{e}");
