@@ -22,15 +22,19 @@
 //!   when any of its three coordinates is.
 //!
 //! # Rate
-//! Times must increase strictly. The frame interval is checked against the median interval:
+//! Times must increase strictly from row to row (wide layout; tidy frames are put in time
+//! order). The frame interval is checked against the median interval:
 //! more than 1 % off is an error naming the first offending line (DESIGN.md 3.1). When the
 //! times are written rounded to a coarser step than the recording's clock (for example 150 Hz
 //! stamped to the millisecond: intervals alternate 6 ms and 7 ms), each interval may also
 //! differ by that rounding step, found as the coarsest power-of-ten grid that every time lies
 //! on, provided it is at most half a frame; a dropped frame is still caught. The rate is the
 //! reciprocal of the least-squares slope of time against frame index (common practice, no
-//! source), which the rounding of single stamps barely moves; with a `frame` column it is the
-//! given rate.
+//! source), which the rounding of single stamps barely moves. With a `frame` column it is the
+//! given rate, divided by the frame step when only every k-th frame was exported (frames 0, 2,
+//! 4 at 100 Hz are rows 50 Hz apart). A `rate_hz` given for a file with a time column must
+//! agree with the times within 1 %. [`Trial::times_s`] keeps the times as written; stages that
+//! need a uniform step use [`Trial::rate_hz`].
 //!
 //! # Errors
 //! Every problem is a [`TrialError`] whose message is one lowercase line naming the file, the
@@ -38,7 +42,7 @@
 //! how to fix it. No input makes the reader panic.
 
 use std::cell::RefCell;
-use std::collections::{HashMap, VecDeque};
+use std::collections::{HashMap, HashSet, VecDeque};
 use std::fmt;
 use std::io::{self, BufRead, BufReader, Read};
 use std::path::Path;
@@ -203,7 +207,8 @@ pub struct Trial {
     pub name: String,
     /// The file as named in messages (its path as given).
     pub file: String,
-    /// Frame times, strictly increasing, in seconds.
+    /// Frame times, strictly increasing, in seconds: as written in the file (rounding
+    /// included), or frame number / rate.
     pub times_s: Vec<Seconds>,
     /// Sampling rate, from the times or given, in Hz.
     pub rate_hz: f64,
@@ -263,7 +268,8 @@ impl fmt::Display for Column {
 pub enum TrialError {
     /// The file could not be opened or read.
     #[error(
-        "{file}: cannot read the file ({error}); check the path and that it is a readable file"
+        "{file}: cannot read the file ({}); check the path and that it is a readable file",
+        error.to_string().to_lowercase()
     )]
     Io { file: String, error: io::Error },
 
@@ -648,7 +654,7 @@ pub fn read_trial(path: &Path, opts: &ReadOptions) -> Result<Trial, TrialError> 
 /// `stem` becomes [`Trial::name`].
 ///
 /// ```
-/// use gravline::trial::{read_trial_from, LengthUnit, ReadOptions};
+/// use gravline::trial::{read_trial_from, ReadOptions};
 /// let csv = "# two frames\ntime,c7_x,c7_y,c7_z\n0.00,1,2,1400\n0.01,1,2,1401\n";
 /// let trial = read_trial_from(csv.as_bytes(), "mem.csv", "mem", &ReadOptions::default())?;
 /// assert_eq!(trial.n_frames(), 2);
@@ -697,16 +703,16 @@ pub fn read_labels_from(
                 file,
                 names: &header.names,
             };
-            let mut seen: HashMap<Vec<u8>, ()> = HashMap::new();
+            let mut seen: HashSet<Vec<u8>> = HashSet::new();
             let mut labels = Vec::new();
             while let Some(line) = src.next(&mut rec)? {
                 if !ctx.check_width(&rec, line)? {
                     continue;
                 }
                 let bytes = rec.get(marker).unwrap_or(b"").trim_ascii();
-                if !seen.contains_key(bytes) {
+                if !seen.contains(bytes) {
                     labels.push(ctx.label(bytes, line, marker)?);
-                    seen.insert(bytes.to_vec(), ());
+                    seen.insert(bytes.to_vec());
                 }
             }
             Ok(labels)
@@ -1413,10 +1419,17 @@ fn read_impl<R: Read>(
     }
 
     let (times_s, rate_hz) = match (header.clock, opts.rate_hz) {
-        (Clock::Frames, Some(rate_hz)) => {
-            let times_s: Vec<f64> = clock.iter().map(|f| f / rate_hz).collect();
+        (Clock::Frames, Some(given_hz)) => {
+            let times_s: Vec<f64> = clock.iter().map(|f| f / given_hz).collect();
             check_intervals(&times_s, &lines, false, file, &clock_column)?;
-            (times_s, rate_hz)
+            // Every k-th frame exported: the rows are sampled at the given rate / k.
+            let steps: Vec<f64> = clock.windows(2).map(|w| w[1] - w[0]).collect();
+            let step = if steps.is_empty() {
+                1.0
+            } else {
+                median(&steps)
+            };
+            (times_s, given_hz / step)
         }
         (Clock::Frames, None) => {
             return Err(TrialError::MissingRate {
@@ -1717,7 +1730,11 @@ fn time_grid_step_s(times_s: &[f64], max_step_s: f64) -> Option<f64> {
     if !(max_step_s.is_finite() && max_step_s > 0.0) {
         return None;
     }
-    let top = (max_step_s.log10().floor() as i32).clamp(-12, 6);
+    let top = max_step_s.log10().floor() as i32;
+    if top < -12 {
+        return None;
+    }
+    let top = top.min(6);
     (-12..=top).rev().find_map(|k| {
         let step = if k >= 0 {
             10f64.powi(k)

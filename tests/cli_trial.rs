@@ -152,7 +152,7 @@ fn bad_inputs_exit_2_with_one_line_and_no_output() {
             format!(
                 "{header}\n{}\n{}\n",
                 row(0),
-                row(1).rsplitn(2, ',').nth(1).unwrap()
+                row(1).rsplit_once(',').unwrap().0
             ),
             vec!["line 3"],
         ),

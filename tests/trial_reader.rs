@@ -152,6 +152,11 @@ fn frame_column_with_given_rate() {
         assert_abs_diff_eq!(*t, (10 + i) as f64 / 200.0, epsilon = 1e-12);
     }
     assert_point(&trial, "c7", 3, [0.0115, 0.020, 1.4015]);
+    // Every other frame exported: frames 0, 2, 4 at 100 Hz are rows 0.02 s apart, 50 Hz.
+    let text = "frame,c7_x,c7_y,c7_z\n0,1,2,3\n2,1,2,3\n4,1,2,3\n";
+    let trial = read_str(text, &with_rate(100.0)).expect("reads");
+    assert_eq!(trial.rate_hz, 50.0);
+    assert_abs_diff_eq!(trial.times_s[2], 0.04, epsilon = 1e-12);
 }
 
 #[test]
@@ -301,7 +306,14 @@ fn error_empty_file() {
 fn error_header_only() {
     let e = error_of(b"# c\n# c\ntime,a_x,a_y,a_z\n", &mm());
     assert!(matches!(e, TrialError::NoData { line: 3, .. }), "{e}");
-    assert_message(&e, &["bad.csv line 3", "header only, no data rows"]);
+    assert_message(
+        &e,
+        &[
+            "bad.csv line 3",
+            "header only, no data rows",
+            "export the trial with its frames",
+        ],
+    );
 }
 
 #[test]
@@ -465,7 +477,7 @@ fn error_marker_with_some_axes_only() {
             "bad.csv line 1",
             "marker `l_heel`",
             "columns for x, y but not for z",
-            "`l_heel_z`",
+            "add the missing column (for example `l_heel_z`)",
         ],
     );
 }
@@ -489,6 +501,7 @@ fn error_duplicated_column_or_label() {
         &[
             "bad.csv line 1",
             "column `a_x` appears twice (columns 2 and 5)",
+            "rename or remove one",
         ],
     );
     let e = error_of(b"# c\ntime,a_x,a_y,a_z,a.X\n0,1,2,3,1\n", &mm());
@@ -503,6 +516,7 @@ fn error_duplicated_column_or_label() {
             "marker `a` has two x columns",
             "column 2 (`a_x`)",
             "column 5 (`a.X`)",
+            "each marker label may appear once",
         ],
     );
     let e = error_of(b"time,TIME_S,a_x,a_y,a_z\n0,0,1,2,3\n", &mm());
@@ -510,6 +524,7 @@ fn error_duplicated_column_or_label() {
     assert_message(
         &e,
         &[
+            "bad.csv line 1",
             "two clock columns",
             "column 1 (`time`)",
             "column 2 (`TIME_S`)",
@@ -533,6 +548,7 @@ fn error_non_finite_time() {
                 "bad.csv line 3, column 1 (`time`)",
                 shown,
                 "not a finite time",
+                "every row needs its time",
             ],
         );
     }
@@ -654,6 +670,21 @@ fn error_rate_problems() {
     assert_message(
         &e,
         &["bad.csv", "not a positive finite number", "`rate_hz`"],
+    );
+}
+
+#[test]
+fn error_missing_file() {
+    let path = fixture("trial_absent.csv");
+    let e = read_trial(&path, &mm()).expect_err("no such file");
+    assert!(matches!(e, TrialError::Io { .. }), "{e}");
+    assert_message(
+        &e,
+        &[
+            &path.display().to_string(),
+            "no such file",
+            "check the path",
+        ],
     );
 }
 
@@ -852,6 +883,7 @@ fn random_mutations_never_panic() {
         }
         let _ = read_labels_from(&bytes[..], "fuzz.csv");
     }
+    eprintln!("{ok} mutated files read, {err} rejected");
     // Both outcomes occur, so the mutations reach past the header.
     assert!(ok > 100 && err > 100, "ok {ok}, err {err}");
 }

@@ -9,7 +9,7 @@ pub mod frames;
 pub mod plots;
 pub mod summary;
 
-pub use frames::{frames_header, write_frames, write_steps};
+pub use frames::{frames_header, write_frames, write_reps, write_steps};
 pub use summary::{Summary, CAUTIONS};
 
 use std::io::Write;
@@ -56,6 +56,40 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
     s
 }
 
+/// Writes every output of a trial into `dir`, each file atomically; `summary.json` last, so its
+/// presence means the trial's outputs are complete.
+pub fn write_outputs(
+    dir: &Path,
+    result: &crate::pipeline::TrialResult,
+    summary: &Summary,
+    plots: &[plots::PlotFormat],
+) -> Result<(), crate::pipeline::Error> {
+    let err = |path: &Path| {
+        let path = path.display().to_string();
+        move |source| crate::pipeline::Error::Write { path, source }
+    };
+    let frames = dir.join("frames.csv");
+    write_atomic(&frames, |w| write_frames(result, w)).map_err(err(&frames))?;
+    if !result.support.steps.is_empty() {
+        let steps = dir.join("steps.csv");
+        write_atomic(&steps, |w| write_steps(result, w)).map_err(err(&steps))?;
+    }
+    if result.lift.as_ref().is_some_and(|l| !l.reps.is_empty()) {
+        let reps = dir.join("reps.csv");
+        write_atomic(&reps, |w| write_reps(result, w)).map_err(err(&reps))?;
+    }
+    for format in plots {
+        plots::write_plots(dir, result, summary, *format)?;
+    }
+    let json = dir.join("summary.json");
+    write_atomic(&json, |w| {
+        serde_json::to_writer_pretty(&mut *w, summary).map_err(std::io::Error::other)?;
+        w.write_all(b"\n")
+    })
+    .map_err(err(&json))?;
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -80,34 +114,4 @@ mod tests {
         assert!(r.is_err());
         assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
     }
-}
-
-/// Writes every output of a trial into `dir`, each file atomically; `summary.json` last, so its
-/// presence means the trial's outputs are complete.
-pub fn write_outputs(
-    dir: &Path,
-    result: &crate::pipeline::TrialResult,
-    summary: &Summary,
-    plots: &[plots::PlotFormat],
-) -> Result<(), crate::pipeline::Error> {
-    let err = |path: &Path| {
-        let path = path.display().to_string();
-        move |source| crate::pipeline::Error::Write { path, source }
-    };
-    let frames = dir.join("frames.csv");
-    write_atomic(&frames, |w| write_frames(result, w)).map_err(err(&frames))?;
-    if !result.support.steps.is_empty() {
-        let steps = dir.join("steps.csv");
-        write_atomic(&steps, |w| write_steps(result, w)).map_err(err(&steps))?;
-    }
-    for format in plots {
-        plots::write_plots(dir, result, summary, *format)?;
-    }
-    let json = dir.join("summary.json");
-    write_atomic(&json, |w| {
-        serde_json::to_writer_pretty(&mut *w, summary).map_err(std::io::Error::other)?;
-        w.write_all(b"\n")
-    })
-    .map_err(err(&json))?;
-    Ok(())
 }

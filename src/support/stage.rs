@@ -203,8 +203,7 @@ pub fn analyse(
     for side in 0..2 {
         let mut height = vec![None; n];
         let mut speed: Vec<Option<f64>> = vec![None; n];
-        for k in 0..FOOT_STEMS.len() {
-            let series = &foot.points[side][k];
+        for (stem, series) in FOOT_STEMS.iter().zip(&foot.points[side]) {
             if series.is_empty() {
                 continue;
             }
@@ -215,7 +214,7 @@ pub fn analyse(
                 }
             }
             // Heel and metatarsal heads decide how slow the foot is (toe and malleolus do not).
-            if matches!(FOOT_STEMS[k], "heel" | "mt1" | "mt2" | "mt5") {
+            if matches!(*stem, "heel" | "mt1" | "mt2" | "mt5") {
                 let (v, _) = derivative::of_series(series, dt);
                 for (f, v) in v.iter().enumerate() {
                     if let Some(v) = v {
