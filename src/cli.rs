@@ -531,11 +531,17 @@ struct MergeArgs {
 fn batch(a: &BatchArgs, ui: &Ui) -> Result<ExitCode> {
     use gravline::batch::{self, ProgressMode};
     use std::io::IsTerminal;
-    let base = config(&SetupArgs { config: a.config.clone(), ..SetupArgs::default() })?;
+    let base = config(&SetupArgs {
+        config: a.config.clone(),
+        ..SetupArgs::default()
+    })?;
     let s = &a.subject;
-    let given = s.subject.is_some() || s.mass_kg.is_some() || s.height_m.is_some() || s.sex.is_some();
+    let given =
+        s.subject.is_some() || s.mass_kg.is_some() || s.height_m.is_some() || s.sex.is_some();
     let plan = if a.input.is_dir() {
-        let defaults = batch::DirectoryDefaults { subject: if given { Some(subject(s)?) } else { None } };
+        let defaults = batch::DirectoryDefaults {
+            subject: if given { Some(subject(s)?) } else { None },
+        };
         batch::read_directory(&a.input, base, &defaults, &a.out)?
     } else {
         if given {
@@ -559,22 +565,39 @@ fn batch(a: &BatchArgs, ui: &Ui) -> Result<ExitCode> {
     for w in &plan.warnings {
         progress.info(&format!("batch: warning: {w}"));
     }
-    let part = a.shard.map_or(String::new(), |s| format!(" (shard {}/{} of {total})", s.index, s.count));
-    progress.info(&format!("batch: {} trials from {}{part}", plan.jobs.len(), plan.source));
+    let part = a.shard.map_or(String::new(), |s| {
+        format!(" (shard {}/{} of {total})", s.index, s.count)
+    });
+    progress.info(&format!(
+        "batch: {} trials from {}{part}",
+        plan.jobs.len(),
+        plan.source
+    ));
     let options = batch::BatchOptions {
         out_dir: a.out.clone(),
         jobs: a.jobs,
         shard: a.shard,
         resume: a.resume,
-        output: OutputOptions { run: RunOptions::default(), plots: a.plots.formats() },
+        output: OutputOptions {
+            run: RunOptions::default(),
+            plots: a.plots.formats(),
+        },
     };
     let outcome = batch::run(&plan, &options, &progress)?;
     ui.info(&outcome.describe());
-    Ok(if outcome.failed > 0 { ExitCode::from(1) } else { ExitCode::SUCCESS })
+    Ok(if outcome.failed > 0 {
+        ExitCode::from(1)
+    } else {
+        ExitCode::SUCCESS
+    })
 }
 
 fn merge(a: &MergeArgs, ui: &Ui) -> Result<ExitCode> {
     let outcome = gravline::batch::merge(&a.inputs, &a.out)?;
     ui.info(&outcome.describe_merge());
-    Ok(if outcome.failed > 0 { ExitCode::from(1) } else { ExitCode::SUCCESS })
+    Ok(if outcome.failed > 0 {
+        ExitCode::from(1)
+    } else {
+        ExitCode::SUCCESS
+    })
 }

@@ -17,10 +17,23 @@ fn forty(dir: &Path) -> std::path::PathBuf {
     write(&dir.join("b/stand.csv"), &standing_csv(120, 102, None));
     rows[5].trial = "a/stand.csv".into();
     rows[6].trial = "b/stand.csv".into();
-    write(&dir.join("trials/garbage.csv"), "\u{1}\u{2} this is not a trial\nat all,,\n");
-    write(&dir.join("trials/no_jugular.csv"), &standing_csv(120, 7, Some("jugular")));
-    write(&dir.join("trials/bad_mass.csv"), &standing_csv(120, 8, None));
-    let extra = [("garbage", "72.5"), ("no_jugular", "61"), ("bad_mass", "heavy")];
+    write(
+        &dir.join("trials/garbage.csv"),
+        "\u{1}\u{2} this is not a trial\nat all,,\n",
+    );
+    write(
+        &dir.join("trials/no_jugular.csv"),
+        &standing_csv(120, 7, Some("jugular")),
+    );
+    write(
+        &dir.join("trials/bad_mass.csv"),
+        &standing_csv(120, 8, None),
+    );
+    let extra = [
+        ("garbage", "72.5"),
+        ("no_jugular", "61"),
+        ("bad_mass", "heavy"),
+    ];
     for (k, (stem, mass)) in extra.iter().enumerate() {
         rows.insert(
             10 + 10 * k,
@@ -44,7 +57,15 @@ fn forty_trials_three_failed_rows_and_the_outputs_of_the_rest() {
     let manifest = forty(dir.path());
     let out = dir.path().join("out");
     let assert = gravline()
-        .args(["batch", manifest.to_str().unwrap(), "--out", out.to_str().unwrap(), "--jobs", "2", "--no-plots"])
+        .args([
+            "batch",
+            manifest.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+            "--jobs",
+            "2",
+            "--no-plots",
+        ])
         .assert()
         .code(1);
     let stderr = String::from_utf8_lossy(&assert.get_output().stderr).into_owned();
@@ -55,18 +76,37 @@ fn forty_trials_three_failed_rows_and_the_outputs_of_the_rest() {
     let numbers: Vec<String> = rows.iter().map(|r| r["row"].clone()).collect();
     let expected: Vec<String> = (1..=40).map(|i| i.to_string()).collect();
     assert_eq!(numbers, expected, "rows in manifest order");
-    let failed: Vec<&BTreeMap<String, String>> = rows.iter().filter(|r| r["status"] == "error").collect();
+    let failed: Vec<&BTreeMap<String, String>> =
+        rows.iter().filter(|r| r["status"] == "error").collect();
     assert_eq!(failed.len(), 3);
     assert_eq!(rows.iter().filter(|r| r["status"] == "ok").count(), 37);
-    let by_id = |id: &str| rows.iter().find(|r| r["id"] == id).unwrap_or_else(|| panic!("no row {id}"));
-    assert!(by_id("garbage")["error"].contains("garbage.csv"), "{}", by_id("garbage")["error"]);
+    let by_id = |id: &str| {
+        rows.iter()
+            .find(|r| r["id"] == id)
+            .unwrap_or_else(|| panic!("no row {id}"))
+    };
+    assert!(
+        by_id("garbage")["error"].contains("garbage.csv"),
+        "{}",
+        by_id("garbage")["error"]
+    );
     let e = &by_id("no_jugular")["error"];
-    assert!(e.contains("`jugular`") && e.contains("no_jugular.csv"), "{e}");
+    assert!(
+        e.contains("`jugular`") && e.contains("no_jugular.csv"),
+        "{e}"
+    );
     let e = &by_id("bad_mass")["error"];
-    assert!(e.contains("manifest.csv line") && e.contains("mass_kg = `heavy`, not a number"), "{e}");
+    assert!(
+        e.contains("manifest.csv line") && e.contains("mass_kg = `heavy`, not a number"),
+        "{e}"
+    );
     for r in &failed {
         assert!(!r["error"].contains('\n'));
-        assert!(stderr.contains(&r["error"]), "each failure is printed: {}", r["error"]);
+        assert!(
+            stderr.contains(&r["error"]),
+            "each failure is printed: {}",
+            r["error"]
+        );
         assert!(r["com_mean_height_m"].is_empty());
     }
     // Two rows with the stem `stand` get the row number (manifest rows 6 and 7).
@@ -85,12 +125,21 @@ fn forty_trials_three_failed_rows_and_the_outputs_of_the_rest() {
         let share: f64 = r["com_mean_height_of_stature"].parse().unwrap();
         assert!((0.45..0.65).contains(&share), "{share}");
         let json: serde_json::Value =
-            serde_json::from_str(&std::fs::read_to_string(trial.join("summary.json")).unwrap()).unwrap();
+            serde_json::from_str(&std::fs::read_to_string(trial.join("summary.json")).unwrap())
+                .unwrap();
         let path_m = json["com"]["path_length_m"].as_f64().unwrap();
-        approx::assert_relative_eq!(r["com_path_length_m"].parse::<f64>().unwrap(), path_m, max_relative = 0.0);
+        approx::assert_relative_eq!(
+            r["com_path_length_m"].parse::<f64>().unwrap(),
+            path_m,
+            max_relative = 0.0
+        );
     }
     for r in &failed {
-        assert!(!out.join("trials").join(&r["id"]).join("summary.json").exists());
+        assert!(!out
+            .join("trials")
+            .join(&r["id"])
+            .join("summary.json")
+            .exists());
     }
 
     // The Parquet table, read with polars, holds the same cells as the CSV table.
@@ -101,9 +150,15 @@ fn forty_trials_three_failed_rows_and_the_outputs_of_the_rest() {
 /// Compares every cell of a Parquet summary with the CSV summary: numbers bit for bit.
 fn parquet_equals_csv(parquet: &Path, csv_path: &Path) {
     use polars::prelude::*;
-    let df = ParquetReader::new(std::fs::File::open(parquet).unwrap()).finish().unwrap();
+    let df = ParquetReader::new(std::fs::File::open(parquet).unwrap())
+        .finish()
+        .unwrap();
     let (header, rows) = read_csv(csv_path);
-    let names: Vec<String> = df.get_column_names().iter().map(|n| n.to_string()).collect();
+    let names: Vec<String> = df
+        .get_column_names()
+        .iter()
+        .map(|n| n.to_string())
+        .collect();
     assert_eq!(names, header);
     assert_eq!(df.height(), rows.len());
     for (k, name) in header.iter().enumerate() {
@@ -114,7 +169,11 @@ fn parquet_equals_csv(parquet: &Path, csv_path: &Path) {
             match v {
                 AnyValue::Null => assert!(cell.is_empty(), "{name} row {i}: null vs `{cell}`"),
                 AnyValue::Float64(x) => {
-                    assert_eq!(cell.parse::<f64>().unwrap().to_bits(), x.to_bits(), "{name} row {i}")
+                    assert_eq!(
+                        cell.parse::<f64>().unwrap().to_bits(),
+                        x.to_bits(),
+                        "{name} row {i}"
+                    )
                 }
                 AnyValue::Int64(x) => assert_eq!(cell.parse::<i64>().unwrap(), x, "{name} row {i}"),
                 AnyValue::String(x) => assert_eq!(cell, x, "{name} row {i}"),
@@ -131,30 +190,67 @@ fn shards_partition_the_manifest_and_merge_into_the_unsharded_summary() {
     let (manifest, _) = standing_batch(dir.path(), 11, 80);
     let m = manifest.to_str().unwrap();
     let whole = dir.path().join("whole");
-    gravline().args(["batch", m, "--out", whole.to_str().unwrap(), "--no-plots", "-q"]).assert().code(0);
+    gravline()
+        .args([
+            "batch",
+            m,
+            "--out",
+            whole.to_str().unwrap(),
+            "--no-plots",
+            "-q",
+        ])
+        .assert()
+        .code(0);
     let shards = dir.path().join("shards");
     let mut seen = Vec::new();
     for k in 1..=3 {
         let shard = format!("{k}/3");
         gravline()
-            .args(["batch", m, "--out", shards.to_str().unwrap(), "--shard", &shard, "--jobs", "1", "--no-plots", "-q"])
+            .args([
+                "batch",
+                m,
+                "--out",
+                shards.to_str().unwrap(),
+                "--shard",
+                &shard,
+                "--jobs",
+                "1",
+                "--no-plots",
+                "-q",
+            ])
             .assert()
             .code(0);
         let rows = csv_maps(&shards.join(format!("summary-{k}-of-3.csv")));
         let numbers: Vec<usize> = rows.iter().map(|r| r["row"].parse().unwrap()).collect();
         let expected: Vec<usize> = (1..=11).filter(|i| (i - 1) % 3 == k - 1).collect();
-        assert_eq!(numbers, expected, "shard {k}/3 takes rows i with (i - 1) % 3 == {}", k - 1);
+        assert_eq!(
+            numbers,
+            expected,
+            "shard {k}/3 takes rows i with (i - 1) % 3 == {}",
+            k - 1
+        );
         seen.extend(numbers);
         assert!(!shards.join("summary.csv").exists() && !shards.join("groups.csv").exists());
     }
     seen.sort_unstable();
-    assert_eq!(seen, (1..=11).collect::<Vec<_>>(), "the shards cover every row once");
+    assert_eq!(
+        seen,
+        (1..=11).collect::<Vec<_>>(),
+        "the shards cover every row once"
+    );
 
     // Merge Parquet shards given out of order, then CSV shards: both equal the unsharded run.
     for (ext, order) in [("parquet", [3, 1, 2]), ("csv", [2, 3, 1])] {
         let merged = dir.path().join(format!("merged-{ext}"));
-        let inputs: Vec<String> =
-            order.iter().map(|k| shards.join(format!("summary-{k}-of-3.{ext}")).display().to_string()).collect();
+        let inputs: Vec<String> = order
+            .iter()
+            .map(|k| {
+                shards
+                    .join(format!("summary-{k}-of-3.{ext}"))
+                    .display()
+                    .to_string()
+            })
+            .collect();
         let mut args = vec!["merge".to_string()];
         args.extend(inputs);
         args.extend(["--out".into(), merged.display().to_string()]);
@@ -173,16 +269,28 @@ fn shards_partition_the_manifest_and_merge_into_the_unsharded_summary() {
     let one = shards.join("summary-1-of-3.parquet").display().to_string();
     let two = shards.join("summary-2-of-3.parquet").display().to_string();
     let bad = dir.path().join("bad").display().to_string();
-    let out = gravline().args(["merge", &one, &one, "--out", &bad]).assert().code(2);
+    let out = gravline()
+        .args(["merge", &one, &one, "--out", &bad])
+        .assert()
+        .code(2);
     assert!(String::from_utf8_lossy(&out.get_output().stderr).contains("row 1 is in both"));
-    let out = gravline().args(["merge", &one, &two, "--out", &bad]).assert().code(2);
+    let out = gravline()
+        .args(["merge", &one, &two, "--out", &bad])
+        .assert()
+        .code(2);
     assert!(String::from_utf8_lossy(&out.get_output().stderr).contains("rows 3, 6, 9 missing"));
 }
 
 /// A summary table written by hand: every column empty except the key, the status and
 /// `com_path_length_m` / `min_bos_margin_m`.
-fn hand_summary(path: &Path, rows: &[(usize, &str, &str, Option<f64>, Option<f64>)]) {
-    let header: Vec<&str> = gravline::batch::table::columns().iter().map(|c| c.0).collect();
+/// Row number, subject, condition, `com_path_length_m`, `min_bos_margin_m`.
+type HandRow<'a> = (usize, &'a str, &'a str, Option<f64>, Option<f64>);
+
+fn hand_summary(path: &Path, rows: &[HandRow]) {
+    let header: Vec<&str> = gravline::batch::table::columns()
+        .iter()
+        .map(|c| c.0)
+        .collect();
     let mut w = csv::Writer::from_path(path).unwrap();
     w.write_record(&header).unwrap();
     for (row, subject, condition, path_m, margin_m) in rows {
@@ -220,7 +328,15 @@ fn groups_equal_a_hand_computation() {
         ],
     );
     let out = dir.path().join("out");
-    gravline().args(["merge", table.to_str().unwrap(), "--out", out.to_str().unwrap()]).assert().code(0);
+    gravline()
+        .args([
+            "merge",
+            table.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ])
+        .assert()
+        .code(0);
     let groups = csv_maps(&out.join("groups.csv"));
     let get = |by: &str, group: &str, figure: &str| {
         groups
@@ -253,20 +369,34 @@ fn groups_equal_a_hand_computation() {
     let slow = get("condition", "slow", "com_path_length_m");
     approx::assert_abs_diff_eq!(num(&slow["mean"]), 3.5, epsilon = 1e-12);
     approx::assert_abs_diff_eq!(num(&slow["sd"]), 12.5f64.sqrt(), epsilon = 1e-12);
-    assert!(!groups.iter().any(|g| g["by"] == "condition" && g["group"].is_empty()));
+    assert!(!groups
+        .iter()
+        .any(|g| g["by"] == "condition" && g["group"].is_empty()));
     // One value: mean, no SD.
     let single = get("condition", "fast", "min_bos_margin_m");
-    assert_eq!((single["n"].as_str(), single["mean"].as_str(), single["sd"].as_str()), ("1", "0.02", ""));
+    assert_eq!(
+        (
+            single["n"].as_str(),
+            single["mean"].as_str(),
+            single["sd"].as_str()
+        ),
+        ("1", "0.02", "")
+    );
     // Groups in order of first appearance: subject a, b; condition slow, fast.
     let order: Vec<(String, String)> = groups
         .iter()
         .filter(|g| g["figure"] == "com_path_length_m")
         .map(|g| (g["by"].clone(), g["group"].clone()))
         .collect();
-    let expected: Vec<(String, String)> = [("subject", "a"), ("subject", "b"), ("condition", "slow"), ("condition", "fast")]
-        .iter()
-        .map(|(a, b)| (a.to_string(), b.to_string()))
-        .collect();
+    let expected: Vec<(String, String)> = [
+        ("subject", "a"),
+        ("subject", "b"),
+        ("condition", "slow"),
+        ("condition", "fast"),
+    ]
+    .iter()
+    .map(|(a, b)| (a.to_string(), b.to_string()))
+    .collect();
     assert_eq!(order, expected);
 }
 
@@ -282,16 +412,31 @@ fn a_folder_with_subjects_csv_runs_every_trial_in_name_order() {
     );
     let out = dir.path().join("out");
     gravline()
-        .args(["batch", dir.path().to_str().unwrap(), "--out", out.to_str().unwrap(), "--no-plots"])
+        .args([
+            "batch",
+            dir.path().to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+            "--no-plots",
+        ])
         .args(["--mass-kg", "80", "--height-m", "1.8", "--sex", "male"])
         .assert()
         .code(1);
     let rows = csv_maps(&out.join("summary.csv"));
     let ids: Vec<&str> = rows.iter().map(|r| r["id"].as_str()).collect();
     assert_eq!(ids, ["a", "b", "c"]);
-    assert_eq!((rows[0]["mass_kg"].as_str(), rows[0]["condition"].as_str()), ("70", "x"));
-    assert!(rows[1]["error"].contains("subjects.csv line 3") && rows[1]["error"].contains("mass_kg = 0"));
-    assert_eq!((rows[2]["status"].as_str(), rows[2]["mass_kg"].as_str()), ("ok", "80"));
+    assert_eq!(
+        (rows[0]["mass_kg"].as_str(), rows[0]["condition"].as_str()),
+        ("70", "x")
+    );
+    assert!(
+        rows[1]["error"].contains("subjects.csv line 3")
+            && rows[1]["error"].contains("mass_kg = 0")
+    );
+    assert_eq!(
+        (rows[2]["status"].as_str(), rows[2]["mass_kg"].as_str()),
+        ("ok", "80")
+    );
 }
 
 #[test]
@@ -300,13 +445,24 @@ fn a_manifest_without_a_required_column_stops_with_exit_2() {
     let m = dir.path().join("m.csv");
     write(&m, "trial,subject,mass_kg,sex\nx.csv,s1,70,male\n");
     let out = dir.path().join("out");
-    let a = gravline().args(["batch", m.to_str().unwrap(), "--out", out.to_str().unwrap()]).assert().code(2);
+    let a = gravline()
+        .args(["batch", m.to_str().unwrap(), "--out", out.to_str().unwrap()])
+        .assert()
+        .code(2);
     let stderr = String::from_utf8_lossy(&a.get_output().stderr).into_owned();
-    assert!(stderr.contains("`height_m`") && stderr.contains("m.csv"), "{stderr}");
+    assert!(
+        stderr.contains("`height_m`") && stderr.contains("m.csv"),
+        "{stderr}"
+    );
     assert_eq!(stderr.trim().lines().count(), 1, "{stderr}");
     assert!(!out.join("summary.csv").exists());
     let a = gravline()
-        .args(["batch", dir.path().join("none.csv").to_str().unwrap(), "--out", out.to_str().unwrap()])
+        .args([
+            "batch",
+            dir.path().join("none.csv").to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ])
         .assert()
         .code(2);
     assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("none.csv"));

@@ -41,11 +41,18 @@ pub const SUBJECTS_FILE: &str = "subjects.csv";
 #[derive(Debug, thiserror::Error)]
 pub enum ManifestError {
     #[error("cannot read {path}: {source}")]
-    Io { path: String, source: std::io::Error },
+    Io {
+        path: String,
+        source: std::io::Error,
+    },
     #[error("{path}: {message}")]
     Csv { path: String, message: String },
     #[error("{path}: missing column(s) {missing}; a manifest needs {needed}")]
-    MissingColumns { path: String, missing: String, needed: String },
+    MissingColumns {
+        path: String,
+        missing: String,
+        needed: String,
+    },
     #[error("{path}: no trials (no rows, or no *.csv files)")]
     Empty { path: String },
     #[error("{path}: {message}")]
@@ -116,7 +123,8 @@ impl Configs {
             .entry(path.clone())
             .or_insert_with(|| {
                 let raw = RawConfig::from_path(&path).map_err(|e| e.to_string())?;
-                let config = Config::from_raw(&raw, &path.display().to_string()).map_err(|e| e.to_string())?;
+                let config = Config::from_raw(&raw, &path.display().to_string())
+                    .map_err(|e| e.to_string())?;
                 Ok(Arc::new(config))
             })
             .clone()
@@ -139,7 +147,8 @@ impl Record<'_> {
     }
 
     fn required(&self, column: &str) -> Result<&str, String> {
-        self.get(column).ok_or_else(|| format!("{}: `{column}` is empty; fill it in", self.origin))
+        self.get(column)
+            .ok_or_else(|| format!("{}: `{column}` is empty; fill it in", self.origin))
     }
 
     fn number(&self, column: &str, text: &str) -> Result<f64, String> {
@@ -157,7 +166,9 @@ impl Record<'_> {
         let mut subject = Subject::new(mass_kg, height_m, sex);
         subject.name = self.get("subject").map(str::to_string);
         for field in SUBJECT_FIELDS {
-            let Some(text) = self.get(field) else { continue };
+            let Some(text) = self.get(field) else {
+                continue;
+            };
             let value = Some(self.number(field, text)?);
             match field {
                 "leg_length_m" => subject.leg_length_m = value,
@@ -183,15 +194,34 @@ struct Table {
 
 fn read_table(path: &Path) -> Result<Table, ManifestError> {
     let shown = path.display().to_string();
-    let file = std::fs::File::open(path).map_err(|source| ManifestError::Io { path: shown.clone(), source })?;
-    let mut reader = csv::ReaderBuilder::new().flexible(true).comment(Some(b'#')).from_reader(file);
+    let file = std::fs::File::open(path).map_err(|source| ManifestError::Io {
+        path: shown.clone(),
+        source,
+    })?;
+    let mut reader = csv::ReaderBuilder::new()
+        .flexible(true)
+        .comment(Some(b'#'))
+        .from_reader(file);
     let csv_error = |e: csv::Error| {
-        let at = e.position().map_or(String::new(), |p| format!("line {}: ", p.line()));
-        ManifestError::Csv { path: shown.clone(), message: format!("{at}{e}") }
+        let at = e
+            .position()
+            .map_or(String::new(), |p| format!("line {}: ", p.line()));
+        ManifestError::Csv {
+            path: shown.clone(),
+            message: format!("{at}{e}"),
+        }
     };
-    let header_names: Vec<String> =
-        reader.headers().map_err(csv_error)?.iter().map(|h| h.trim().to_string()).collect();
-    let headers = header_names.iter().enumerate().map(|(i, h)| (h.clone(), i)).collect();
+    let header_names: Vec<String> = reader
+        .headers()
+        .map_err(csv_error)?
+        .iter()
+        .map(|h| h.trim().to_string())
+        .collect();
+    let headers = header_names
+        .iter()
+        .enumerate()
+        .map(|(i, h)| (h.clone(), i))
+        .collect();
     let mut records = Vec::new();
     for record in reader.records() {
         let record = record.map_err(csv_error)?;
@@ -201,32 +231,54 @@ fn read_table(path: &Path) -> Result<Table, ManifestError> {
         let line = record.position().map_or(0, |p| p.line());
         records.push((line, record));
     }
-    Ok(Table { path: shown, headers, header_names, records })
+    Ok(Table {
+        path: shown,
+        headers,
+        header_names,
+        records,
+    })
 }
 
 impl Table {
     fn check_columns(&self, required: &[&str]) -> Result<(), ManifestError> {
-        let missing: Vec<&str> = required.iter().copied().filter(|c| !self.headers.contains_key(*c)).collect();
+        let missing: Vec<&str> = required
+            .iter()
+            .copied()
+            .filter(|c| !self.headers.contains_key(*c))
+            .collect();
         if missing.is_empty() {
             return Ok(());
         }
         Err(ManifestError::MissingColumns {
             path: self.path.clone(),
-            missing: missing.iter().map(|c| format!("`{c}`")).collect::<Vec<_>>().join(", "),
+            missing: missing
+                .iter()
+                .map(|c| format!("`{c}`"))
+                .collect::<Vec<_>>()
+                .join(", "),
             needed: required.join(", "),
         })
     }
 
     /// Columns that no reader of this table uses, as one warning.
     fn ignored_columns(&self, known: &[&str]) -> Option<String> {
-        let ignored: Vec<&str> =
-            self.header_names.iter().map(String::as_str).filter(|h| !known.contains(h)).collect();
-        (!ignored.is_empty()).then(|| format!("{}: columns ignored: {}", self.path, ignored.join(", ")))
+        let ignored: Vec<&str> = self
+            .header_names
+            .iter()
+            .map(String::as_str)
+            .filter(|h| !known.contains(h))
+            .collect();
+        (!ignored.is_empty())
+            .then(|| format!("{}: columns ignored: {}", self.path, ignored.join(", ")))
     }
 
     fn record(&self, i: usize) -> Option<Record<'_>> {
         let (line, record) = self.records.get(i)?;
-        Some(Record { headers: &self.headers, record, origin: format!("{} line {line}", self.path) })
+        Some(Record {
+            headers: &self.headers,
+            record,
+            origin: format!("{} line {line}", self.path),
+        })
     }
 }
 
@@ -246,17 +298,25 @@ pub fn read_manifest(path: &Path, base: Config) -> Result<Plan, ManifestError> {
     let table = read_table(path)?;
     table.check_columns(&REQUIRED_COLUMNS)?;
     if table.records.is_empty() {
-        return Err(ManifestError::Empty { path: table.path.clone() });
+        return Err(ManifestError::Empty {
+            path: table.path.clone(),
+        });
     }
     let folder = path.parent().map(Path::to_path_buf).unwrap_or_default();
-    let mut configs = Configs { base: Arc::new(base), files: HashMap::new() };
+    let mut configs = Configs {
+        base: Arc::new(base),
+        files: HashMap::new(),
+    };
     let mut jobs = Vec::with_capacity(table.records.len());
     for i in 0..table.records.len() {
         let Some(r) = table.record(i) else { continue };
         let trial = r.get("trial").unwrap_or_default().to_string();
         let setup = (|| {
             if trial.is_empty() {
-                return Err(format!("{}: `trial` is empty; give the trial file", r.origin));
+                return Err(format!(
+                    "{}: `trial` is empty; give the trial file",
+                    r.origin
+                ));
             }
             let subject = r.subject()?;
             let config = configs.get(r.get("config").map(|c| folder.join(c)))?;
@@ -273,8 +333,15 @@ pub fn read_manifest(path: &Path, base: Config) -> Result<Plan, ManifestError> {
         });
     }
     assign_ids(&mut jobs);
-    let warnings = table.ignored_columns(&known_columns(&[])).into_iter().collect();
-    Ok(Plan { source: table.path, jobs, warnings })
+    let warnings = table
+        .ignored_columns(&known_columns(&[]))
+        .into_iter()
+        .collect();
+    Ok(Plan {
+        source: table.path,
+        jobs,
+        warnings,
+    })
 }
 
 /// Every `*.csv` trial of a folder, sorted by file name, with its subject from `subjects.csv`
@@ -288,16 +355,30 @@ pub fn read_directory(
     out_dir: &Path,
 ) -> Result<Plan, ManifestError> {
     let shown = dir.display().to_string();
-    let same = |a: &Path, b: &Path| a.canonicalize().ok().zip(b.canonicalize().ok()).is_some_and(|(a, b)| a == b);
-    let is_output = |name: &str| {
-        same(dir, out_dir) && (name == "summary.csv" || name == "groups.csv" || is_shard_summary(name))
+    let same = |a: &Path, b: &Path| {
+        a.canonicalize()
+            .ok()
+            .zip(b.canonicalize().ok())
+            .is_some_and(|(a, b)| a == b)
     };
-    let entries = std::fs::read_dir(dir).map_err(|source| ManifestError::Io { path: shown.clone(), source })?;
+    let is_output = |name: &str| {
+        same(dir, out_dir)
+            && (name == "summary.csv" || name == "groups.csv" || is_shard_summary(name))
+    };
+    let entries = std::fs::read_dir(dir).map_err(|source| ManifestError::Io {
+        path: shown.clone(),
+        source,
+    })?;
     let mut names = Vec::new();
     for entry in entries {
-        let entry = entry.map_err(|source| ManifestError::Io { path: shown.clone(), source })?;
+        let entry = entry.map_err(|source| ManifestError::Io {
+            path: shown.clone(),
+            source,
+        })?;
         let name = entry.file_name().to_string_lossy().into_owned();
-        let is_csv = Path::new(&name).extension().is_some_and(|e| e.eq_ignore_ascii_case("csv"));
+        let is_csv = Path::new(&name)
+            .extension()
+            .is_some_and(|e| e.eq_ignore_ascii_case("csv"));
         if is_csv && name != SUBJECTS_FILE && !is_output(&name) && entry.path().is_file() {
             names.push(name);
         }
@@ -331,11 +412,17 @@ pub fn read_directory(
             }
         }
     }
-    let mut configs = Configs { base: Arc::new(base), files: HashMap::new() };
+    let mut configs = Configs {
+        base: Arc::new(base),
+        files: HashMap::new(),
+    };
     let mut jobs = Vec::with_capacity(names.len());
     let mut used = HashSet::new();
     for (i, name) in names.iter().enumerate() {
-        let record = subjects.as_ref().zip(by_name.get(name)).and_then(|(t, &k)| t.record(k));
+        let record = subjects
+            .as_ref()
+            .zip(by_name.get(name))
+            .and_then(|(t, &k)| t.record(k));
         used.insert(name.clone());
         let (subject, condition, setup) = match &record {
             Some(r) => {
@@ -343,13 +430,20 @@ pub fn read_directory(
                     let config = configs.get(r.get("config").map(|c| dir.join(c)))?;
                     Ok(JobSetup { subject, config })
                 });
-                (r.get("subject").map(str::to_string), r.get("condition").map(str::to_string), setup)
+                (
+                    r.get("subject").map(str::to_string),
+                    r.get("condition").map(str::to_string),
+                    setup,
+                )
             }
             None => match &defaults.subject {
                 Some(s) => (
                     s.name.clone(),
                     None,
-                    Ok(JobSetup { subject: s.clone(), config: configs.base.clone() }),
+                    Ok(JobSetup {
+                        subject: s.clone(),
+                        config: configs.base.clone(),
+                    }),
                 ),
                 None => (
                     None,
@@ -375,20 +469,37 @@ pub fn read_directory(
     let mut warnings = Vec::new();
     if let Some(t) = &subjects {
         warnings.extend(t.ignored_columns(&known_columns(&[])));
-        let unused: Vec<&str> = by_name.keys().map(String::as_str).filter(|n| !used.contains(*n)).collect();
+        let unused: Vec<&str> = by_name
+            .keys()
+            .map(String::as_str)
+            .filter(|n| !used.contains(*n))
+            .collect();
         if !unused.is_empty() {
-            warnings.push(format!("{}: rows for files not in the folder: {}", t.path, unused.join(", ")));
+            warnings.push(format!(
+                "{}: rows for files not in the folder: {}",
+                t.path,
+                unused.join(", ")
+            ));
         }
     }
-    Ok(Plan { source: shown, jobs, warnings })
+    Ok(Plan {
+        source: shown,
+        jobs,
+        warnings,
+    })
 }
 
 /// `summary-K-of-N.csv`, a shard's summary.
 fn is_shard_summary(name: &str) -> bool {
-    let Some(middle) = name.strip_prefix("summary-").and_then(|n| n.strip_suffix(".csv")) else {
+    let Some(middle) = name
+        .strip_prefix("summary-")
+        .and_then(|n| n.strip_suffix(".csv"))
+    else {
         return false;
     };
-    let Some((k, n)) = middle.split_once("-of-") else { return false };
+    let Some((k, n)) = middle.split_once("-of-") else {
+        return false;
+    };
     k.parse::<usize>().is_ok() && n.parse::<usize>().is_ok()
 }
 
@@ -409,8 +520,11 @@ pub fn assign_ids(jobs: &mut [Job]) {
     for s in &stems {
         *count.entry(s.as_str()).or_default() += 1;
     }
-    let mut taken: HashSet<String> =
-        stems.iter().filter(|s| count.get(s.as_str()) == Some(&1)).cloned().collect();
+    let mut taken: HashSet<String> = stems
+        .iter()
+        .filter(|s| count.get(s.as_str()) == Some(&1))
+        .cloned()
+        .collect();
     for (job, s) in jobs.iter_mut().zip(&stems) {
         if count.get(s.as_str()) == Some(&1) {
             job.id = s.clone();
@@ -443,8 +557,12 @@ mod tests {
 
     #[test]
     fn shared_stems_get_the_row_number() {
-        let mut jobs =
-            vec![job(1, "a/walk.csv"), job(2, "stand.csv"), job(3, "b/walk.csv"), job(4, "walk-row3.csv")];
+        let mut jobs = vec![
+            job(1, "a/walk.csv"),
+            job(2, "stand.csv"),
+            job(3, "b/walk.csv"),
+            job(4, "walk-row3.csv"),
+        ];
         assign_ids(&mut jobs);
         let ids: Vec<&str> = jobs.iter().map(|j| j.id.as_str()).collect();
         assert_eq!(ids, ["walk-row1", "stand", "walk-row3-row3", "walk-row3"]);
@@ -459,8 +577,14 @@ mod tests {
     #[test]
     fn a_missing_column_is_fatal_and_named() {
         let dir = tempfile::tempdir().unwrap();
-        let p = write(dir.path(), "m.csv", "trial,subject,mass_kg,sex\na.csv,s1,70,male\n");
-        let e = read_manifest(&p, Config::default()).unwrap_err().to_string();
+        let p = write(
+            dir.path(),
+            "m.csv",
+            "trial,subject,mass_kg,sex\na.csv,s1,70,male\n",
+        );
+        let e = read_manifest(&p, Config::default())
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("`height_m`") && e.contains("m.csv"), "{e}");
     }
 
@@ -476,7 +600,10 @@ mod tests {
         assert_eq!(plan.jobs.len(), 3);
         assert!(plan.jobs[0].setup.is_ok());
         let e1 = plan.jobs[1].setup.as_ref().unwrap_err();
-        assert!(e1.contains("line 4") && e1.contains("mass_kg = `heavy`, not a number"), "{e1}");
+        assert!(
+            e1.contains("line 4") && e1.contains("mass_kg = `heavy`, not a number"),
+            "{e1}"
+        );
         let e2 = plan.jobs[2].setup.as_ref().unwrap_err();
         assert!(e2.contains("line 5") && e2.contains("mass_kg = 0"), "{e2}");
         assert_eq!(plan.warnings.len(), 1);
@@ -490,13 +617,29 @@ mod tests {
         for n in ["b.csv", "a.csv", "c.CSV", "notes.txt", "summary-1-of-2.csv"] {
             write(dir.path(), n, "");
         }
-        write(dir.path(), SUBJECTS_FILE, "trial,subject,mass_kg,height_m,sex,condition\nb.csv,s2,60,1.6,female,slow\n");
-        let defaults = DirectoryDefaults { subject: Some(Subject::new(70.0, 1.75, Sex::Male)) };
-        let plan = read_directory(dir.path(), Config::default(), &defaults, Path::new("elsewhere")).unwrap();
+        write(
+            dir.path(),
+            SUBJECTS_FILE,
+            "trial,subject,mass_kg,height_m,sex,condition\nb.csv,s2,60,1.6,female,slow\n",
+        );
+        let defaults = DirectoryDefaults {
+            subject: Some(Subject::new(70.0, 1.75, Sex::Male)),
+        };
+        let plan = read_directory(
+            dir.path(),
+            Config::default(),
+            &defaults,
+            Path::new("elsewhere"),
+        )
+        .unwrap();
         let names: Vec<&str> = plan.jobs.iter().map(|j| j.trial.as_str()).collect();
         assert_eq!(names, ["a.csv", "b.csv", "c.CSV", "summary-1-of-2.csv"]);
         let own = read_directory(dir.path(), Config::default(), &defaults, dir.path()).unwrap();
-        assert_eq!(own.jobs.len(), 3, "the batch's own outputs in the folder are not trials");
+        assert_eq!(
+            own.jobs.len(),
+            3,
+            "the batch's own outputs in the folder are not trials"
+        );
         let b = plan.jobs[1].setup.as_ref().unwrap();
         assert_eq!((b.subject.mass_kg, b.subject.sex), (60.0, Sex::Female));
         assert_eq!(plan.jobs[1].condition.as_deref(), Some("slow"));
@@ -507,7 +650,13 @@ mod tests {
     fn a_directory_without_any_subject_is_fatal() {
         let dir = tempfile::tempdir().unwrap();
         write(dir.path(), "a.csv", "");
-        let e = read_directory(dir.path(), Config::default(), &DirectoryDefaults::default(), dir.path()).unwrap_err();
+        let e = read_directory(
+            dir.path(),
+            Config::default(),
+            &DirectoryDefaults::default(),
+            dir.path(),
+        )
+        .unwrap_err();
         assert!(e.to_string().contains("--subject"), "{e}");
     }
 }

@@ -211,14 +211,27 @@ pub fn trials_dir(out_dir: &Path) -> PathBuf {
 /// Names of the summary files in the output folder, for a shard or a whole run.
 pub fn summary_names(shard: Option<Shard>) -> Vec<String> {
     match shard {
-        Some(s) => vec![format!("summary-{}.csv", s.suffix()), format!("summary-{}.parquet", s.suffix())],
-        None => vec!["summary.csv".into(), "summary.parquet".into(), "groups.csv".into()],
+        Some(s) => vec![
+            format!("summary-{}.csv", s.suffix()),
+            format!("summary-{}.parquet", s.suffix()),
+        ],
+        None => vec![
+            "summary.csv".into(),
+            "summary.parquet".into(),
+            "groups.csv".into(),
+        ],
     }
 }
 
 /// Runs the jobs of a plan (already sharded, see [`Plan::shard`]) and writes the summary files.
-pub fn run(plan: &Plan, options: &BatchOptions, progress: &Progress) -> Result<Outcome, BatchError> {
-    let jobs = options.jobs.unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+pub fn run(
+    plan: &Plan,
+    options: &BatchOptions,
+    progress: &Progress,
+) -> Result<Outcome, BatchError> {
+    let jobs = options
+        .jobs
+        .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
     if jobs == 0 {
         return Err(BatchError::NoJobs);
     }
@@ -226,7 +239,10 @@ pub fn run(plan: &Plan, options: &BatchOptions, progress: &Progress) -> Result<O
         .num_threads(jobs)
         .thread_name(|i| format!("gravline-batch-{i}"))
         .build()
-        .map_err(|e| BatchError::Threads { jobs, message: e.to_string() })?;
+        .map_err(|e| BatchError::Threads {
+            jobs,
+            message: e.to_string(),
+        })?;
     let trials = trials_dir(&options.out_dir);
     let results: Vec<(Row, TrialOutcome)> = pool.install(|| {
         plan.jobs
@@ -241,14 +257,28 @@ pub fn run(plan: &Plan, options: &BatchOptions, progress: &Progress) -> Result<O
     });
     progress.finish();
     let count = |o: TrialOutcome| results.iter().filter(|r| r.1 == o).count();
-    let (ran, skipped, failed) = (count(TrialOutcome::Ran), count(TrialOutcome::Skipped), count(TrialOutcome::Failed));
+    let (ran, skipped, failed) = (
+        count(TrialOutcome::Ran),
+        count(TrialOutcome::Skipped),
+        count(TrialOutcome::Failed),
+    );
     let rows: Vec<Row> = results.into_iter().map(|r| r.0).collect();
     let files = write_summary(&options.out_dir, options.shard, &rows)?;
-    Ok(Outcome { rows, ran, skipped, failed, files })
+    Ok(Outcome {
+        rows,
+        ran,
+        skipped,
+        failed,
+        files,
+    })
 }
 
 /// Runs one job: its row, how it ended, and the message of a failure (`row N (id): ...`).
-fn run_job(job: &Job, options: &BatchOptions, trials: &Path) -> (Row, TrialOutcome, Option<String>) {
+fn run_job(
+    job: &Job,
+    options: &BatchOptions,
+    trials: &Path,
+) -> (Row, TrialOutcome, Option<String>) {
     let key = RowKey {
         row: job.row,
         id: &job.id,
@@ -258,7 +288,11 @@ fn run_job(job: &Job, options: &BatchOptions, trials: &Path) -> (Row, TrialOutco
     };
     let fail = |message: String| {
         let row = Row::error(&key, &message);
-        (row, TrialOutcome::Failed, Some(format!("row {} ({}): {message}", job.row, job.id)))
+        (
+            row,
+            TrialOutcome::Failed,
+            Some(format!("row {} ({}): {message}", job.row, job.id)),
+        )
     };
     let js = match &job.setup {
         Ok(s) => s,
@@ -286,13 +320,17 @@ fn run_job(job: &Job, options: &BatchOptions, trials: &Path) -> (Row, TrialOutco
             Err(message) => fail(message),
         },
         Ok(Err(e)) => fail(e.to_string()),
-        Err(_) => fail(format!("{}: internal error (a panic); please report it with this file", job.path.display())),
+        Err(_) => fail(format!(
+            "{}: internal error (a panic); please report it with this file",
+            job.path.display()
+        )),
     }
 }
 
 /// Reads a trial's `summary.json` back.
 fn read_stored(json: &Path) -> Result<StoredSummary, String> {
-    let text = std::fs::read_to_string(json).map_err(|e| format!("cannot read {}: {e}", json.display()))?;
+    let text = std::fs::read_to_string(json)
+        .map_err(|e| format!("cannot read {}: {e}", json.display()))?;
     StoredSummary::from_json(&text).map_err(|e| format!("{}: {e}", json.display()))
 }
 
@@ -314,7 +352,9 @@ fn reusable(trial: &Path, setup: &Setup, json: &Path) -> Option<StoredSummary> {
 /// Before a trial runs again: its old `summary.json` goes (so a folder with one is always from
 /// the latest run of that trial), and so do temporary files a killed run left.
 fn clear_stale(dir: &Path) {
-    let Ok(entries) = std::fs::read_dir(dir) else { return };
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
     for entry in entries.flatten() {
         let name = entry.file_name().to_string_lossy().into_owned();
         if name == "summary.json" || is_temporary(&name) {
@@ -331,18 +371,25 @@ pub fn is_temporary(name: &str) -> bool {
 
 /// Writes the summary table (and, for a whole run, `groups.csv`) into `out_dir`; returns the
 /// files written.
-pub fn write_summary(out_dir: &Path, shard: Option<Shard>, rows: &[Row]) -> Result<Vec<PathBuf>, TableError> {
+pub fn write_summary(
+    out_dir: &Path,
+    shard: Option<Shard>,
+    rows: &[Row],
+) -> Result<Vec<PathBuf>, TableError> {
     let names = summary_names(shard);
     let paths: Vec<PathBuf> = names.iter().map(|n| out_dir.join(n)).collect();
     let err = |p: &Path| {
         let path = p.display().to_string();
         move |source| TableError::Write { path, source }
     };
-    crate::report::write_atomic(&paths[0], |w| table::write_csv(rows, w)).map_err(err(&paths[0]))?;
-    crate::report::write_atomic(&paths[1], |w| table::write_parquet(rows, w)).map_err(err(&paths[1]))?;
+    crate::report::write_atomic(&paths[0], |w| table::write_csv(rows, w))
+        .map_err(err(&paths[0]))?;
+    crate::report::write_atomic(&paths[1], |w| table::write_parquet(rows, w))
+        .map_err(err(&paths[1]))?;
     if let Some(groups) = paths.get(2) {
         let stats = table::groups(rows);
-        crate::report::write_atomic(groups, |w| table::write_groups(&stats, w)).map_err(err(groups))?;
+        crate::report::write_atomic(groups, |w| table::write_groups(&stats, w))
+            .map_err(err(groups))?;
     }
     Ok(paths)
 }
@@ -352,14 +399,16 @@ pub fn write_summary(out_dir: &Path, shard: Option<Shard>, rows: &[Row]) -> Resu
 /// error.
 pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> {
     if inputs.is_empty() {
-        return Err(BatchError::Merge("nothing to merge: give the shard summaries".into()));
+        return Err(BatchError::Merge(
+            "nothing to merge: give the shard summaries".into(),
+        ));
     }
     let mut rows: Vec<(i64, usize, Row)> = Vec::new();
     for (k, path) in inputs.iter().enumerate() {
         for row in table::read_table(path)? {
-            let n = row
-                .row()
-                .ok_or_else(|| BatchError::Merge(format!("{}: a row without a `row` number", path.display())))?;
+            let n = row.row().ok_or_else(|| {
+                BatchError::Merge(format!("{}: a row without a `row` number", path.display()))
+            })?;
             rows.push((n, k, row));
         }
     }
@@ -392,7 +441,13 @@ pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> 
     let rows: Vec<Row> = rows.into_iter().map(|r| r.2).collect();
     let failed = rows.iter().filter(|r| !r.is_ok()).count();
     let files = write_summary(out_dir, None, &rows)?;
-    Ok(Outcome { ran: 0, skipped: 0, failed, rows, files })
+    Ok(Outcome {
+        ran: 0,
+        skipped: 0,
+        failed,
+        rows,
+        files,
+    })
 }
 
 #[cfg(test)]
@@ -403,10 +458,18 @@ mod tests {
     fn shards_partition_the_positions() {
         let shards: Vec<Shard> = (1..=3).map(|k| Shard { index: k, count: 3 }).collect();
         for i in 0..20 {
-            assert_eq!(shards.iter().filter(|s| s.takes(i)).count(), 1, "position {i}");
+            assert_eq!(
+                shards.iter().filter(|s| s.takes(i)).count(),
+                1,
+                "position {i}"
+            );
         }
         assert!(shards[0].takes(0) && shards[1].takes(4) && shards[2].takes(5));
-        assert!(Shard::parse("0/3").is_err() && Shard::parse("x").is_err() && Shard::parse("1/0").is_err());
+        assert!(
+            Shard::parse("0/3").is_err()
+                && Shard::parse("x").is_err()
+                && Shard::parse("1/0").is_err()
+        );
     }
 
     #[test]

@@ -65,7 +65,18 @@ impl Progress {
             bar
         });
         let start = Instant::now();
-        Progress { mode, total, start, bar, counts: Mutex::new(Counts { done: 0, failed: 0, skipped: 0, last_line: start }) }
+        Progress {
+            mode,
+            total,
+            start,
+            bar,
+            counts: Mutex::new(Counts {
+                done: 0,
+                failed: 0,
+                skipped: 0,
+                last_line: start,
+            }),
+        }
     }
 
     /// Prints a line (above the bar on a terminal); nothing with [`ProgressMode::Quiet`].
@@ -84,7 +95,9 @@ impl Progress {
 
     /// Records a finished trial; `error` is printed for a failed one.
     pub fn trial_done(&self, outcome: TrialOutcome, error: Option<&str>) {
-        let Ok(mut c) = self.counts.lock() else { return };
+        let Ok(mut c) = self.counts.lock() else {
+            return;
+        };
         c.done += 1;
         match outcome {
             TrialOutcome::Failed => c.failed += 1,

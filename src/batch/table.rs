@@ -64,8 +64,14 @@ impl Cell {
             });
         }
         match kind {
-            Kind::Int => t.parse().map(|v| Cell::Int(Some(v))).map_err(|_| format!("`{t}` is not an integer")),
-            Kind::Float => t.parse().map(|v| Cell::Float(Some(v))).map_err(|_| format!("`{t}` is not a number")),
+            Kind::Int => t
+                .parse()
+                .map(|v| Cell::Int(Some(v)))
+                .map_err(|_| format!("`{t}` is not an integer")),
+            Kind::Float => t
+                .parse()
+                .map(|v| Cell::Float(Some(v)))
+                .map_err(|_| format!("`{t}` is not a number")),
             Kind::Text => Ok(Cell::Text(Some(text.to_string()))),
         }
     }
@@ -211,11 +217,19 @@ pub const STATUS_ERROR: &str = "error";
 
 /// The cells of one row with their column names; `s` is `None` for a failed trial (then every
 /// figure is missing). This function is the schema: [`columns`] is its names and kinds.
-fn named_cells(key: &RowKey, error: Option<&str>, s: Option<&StoredSummary>) -> Vec<(&'static str, Cell)> {
+fn named_cells(
+    key: &RowKey,
+    error: Option<&str>,
+    s: Option<&StoredSummary>,
+) -> Vec<(&'static str, Cell)> {
     let f = |get: &dyn Fn(&StoredSummary) -> Option<f64>| Cell::Float(s.and_then(get));
     let i = |get: &dyn Fn(&StoredSummary) -> Option<i64>| Cell::Int(s.and_then(get));
     let t = |get: &dyn Fn(&StoredSummary) -> Option<&str>| Cell::text(s.and_then(get));
-    let status = if error.is_some() { STATUS_ERROR } else { STATUS_OK };
+    let status = if error.is_some() {
+        STATUS_ERROR
+    } else {
+        STATUS_OK
+    };
     let mut cells = vec![
         ("row", Cell::Int(Some(key.row as i64))),
         ("id", Cell::text(Some(key.id))),
@@ -232,7 +246,10 @@ fn named_cells(key: &RowKey, error: Option<&str>, s: Option<&StoredSummary>) -> 
         ("mass_kg", f(&|s| s.subject.mass_kg)),
         ("height_m", f(&|s| s.subject.height_m)),
         ("com_mean_height_m", f(&|s| s.com.mean_height_m)),
-        ("com_mean_height_of_stature", f(&|s| s.com.mean_height_of_stature)),
+        (
+            "com_mean_height_of_stature",
+            f(&|s| s.com.mean_height_of_stature),
+        ),
         ("com_min_x_m", f(&|s| s.com.min_m?[0])),
         ("com_min_y_m", f(&|s| s.com.min_m?[1])),
         ("com_min_z_m", f(&|s| s.com.min_m?[2])),
@@ -240,7 +257,10 @@ fn named_cells(key: &RowKey, error: Option<&str>, s: Option<&StoredSummary>) -> 
         ("com_max_y_m", f(&|s| s.com.max_m?[1])),
         ("com_max_z_m", f(&|s| s.com.max_m?[2])),
         ("com_path_length_m", f(&|s| s.com.path_length_m)),
-        ("com_vertical_excursion_m", f(&|s| s.com.vertical_excursion_m)),
+        (
+            "com_vertical_excursion_m",
+            f(&|s| s.com.vertical_excursion_m),
+        ),
         ("com_ml_excursion_m", f(&|s| s.com.ml_excursion_m)),
         ("com_mean_speed_m_s", f(&|s| s.com.mean_speed_m_s)),
         ("com_max_speed_m_s", f(&|s| s.com.max_speed_m_s)),
@@ -254,10 +274,7 @@ fn named_cells(key: &RowKey, error: Option<&str>, s: Option<&StoredSummary>) -> 
         ("time_with_bos_s", f(&|s| s.support.time_with_bos_s)),
         ("time_outside_bos_s", f(&|s| s.support.time_outside_bos_s)),
     ];
-    for (side, names) in [
-        ("left", LEFT_STEP_COLUMNS),
-        ("right", RIGHT_STEP_COLUMNS),
-    ] {
+    for (side, names) in [("left", LEFT_STEP_COLUMNS), ("right", RIGHT_STEP_COLUMNS)] {
         let [steps, length, width, ap, ml, vertical] = names;
         cells.extend([
             (steps, i(&|s| s.side(side)?.steps)),
@@ -278,9 +295,15 @@ fn named_cells(key: &RowKey, error: Option<&str>, s: Option<&StoredSummary>) -> 
         ("xcom_length_m", f(&|s| s.provenance.model.xcom_length_m)),
         ("omega0_rad_s", f(&|s| s.provenance.model.omega0_rad_s)),
         ("warnings", i(&|s| Some(s.warnings.len() as i64))),
-        ("gravline_version", t(&|s| s.provenance.gravline_version.as_deref())),
+        (
+            "gravline_version",
+            t(&|s| s.provenance.gravline_version.as_deref()),
+        ),
         ("input_sha256", t(&|s| s.provenance.input_sha256.as_deref())),
-        ("config_sha256", t(&|s| s.provenance.config_sha256.as_deref())),
+        (
+            "config_sha256",
+            t(&|s| s.provenance.config_sha256.as_deref()),
+        ),
     ]);
     cells
 }
@@ -306,8 +329,17 @@ const RIGHT_STEP_COLUMNS: [&str; 6] = [
 pub fn columns() -> &'static [(&'static str, Kind)] {
     static COLUMNS: std::sync::OnceLock<Vec<(&'static str, Kind)>> = std::sync::OnceLock::new();
     COLUMNS.get_or_init(|| {
-        let key = RowKey { row: 0, id: "", trial: "", subject: None, condition: None };
-        named_cells(&key, None, None).into_iter().map(|(n, c)| (n, c.kind())).collect()
+        let key = RowKey {
+            row: 0,
+            id: "",
+            trial: "",
+            subject: None,
+            condition: None,
+        };
+        named_cells(&key, None, None)
+            .into_iter()
+            .map(|(n, c)| (n, c.kind()))
+            .collect()
     })
 }
 
@@ -318,13 +350,19 @@ pub struct Row(pub Vec<Cell>);
 impl Row {
     /// The row of a trial that ran, from its `summary.json`.
     pub fn ok(key: &RowKey, summary: &StoredSummary) -> Row {
-        Row(named_cells(key, None, Some(summary)).into_iter().map(|(_, c)| c).collect())
+        Row(named_cells(key, None, Some(summary))
+            .into_iter()
+            .map(|(_, c)| c)
+            .collect())
     }
 
     /// The row of a trial that failed, with its one-line error.
     pub fn error(key: &RowKey, message: &str) -> Row {
         let message = message.split_whitespace().collect::<Vec<_>>().join(" ");
-        Row(named_cells(key, Some(&message), None).into_iter().map(|(_, c)| c).collect())
+        Row(named_cells(key, Some(&message), None)
+            .into_iter()
+            .map(|(_, c)| c)
+            .collect())
     }
 
     /// The cell of a column, by name.
@@ -347,15 +385,24 @@ impl Row {
 #[derive(Debug, thiserror::Error)]
 pub enum TableError {
     #[error("cannot write {path}: {source}")]
-    Write { path: String, source: std::io::Error },
+    Write {
+        path: String,
+        source: std::io::Error,
+    },
     #[error("cannot read {path}: {source}")]
-    Read { path: String, source: std::io::Error },
+    Read {
+        path: String,
+        source: std::io::Error,
+    },
     #[error("{path}: {message}")]
     Format { path: String, message: String },
 }
 
 fn format_error(path: &Path, message: impl Into<String>) -> TableError {
-    TableError::Format { path: path.display().to_string(), message: message.into() }
+    TableError::Format {
+        path: path.display().to_string(),
+        message: message.into(),
+    }
 }
 
 /// Writes the table as CSV (header, then one line per row).
@@ -370,8 +417,10 @@ pub fn write_csv(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
 
 /// Reads a summary table written by [`write_csv`]; columns are matched by name.
 pub fn read_csv(path: &Path) -> Result<Vec<Row>, TableError> {
-    let file = std::fs::File::open(path)
-        .map_err(|source| TableError::Read { path: path.display().to_string(), source })?;
+    let file = std::fs::File::open(path).map_err(|source| TableError::Read {
+        path: path.display().to_string(),
+        source,
+    })?;
     let mut reader = csv::Reader::from_reader(file);
     let headers: Vec<String> = reader
         .headers()
@@ -399,12 +448,21 @@ pub fn read_csv(path: &Path) -> Result<Vec<Row>, TableError> {
 
 /// Position of every schema column among a file's columns; an error names the first missing one.
 fn column_index(path: &Path, headers: &[String]) -> Result<Vec<usize>, TableError> {
-    let by_name: HashMap<&str, usize> = headers.iter().enumerate().map(|(i, h)| (h.as_str(), i)).collect();
+    let by_name: HashMap<&str, usize> = headers
+        .iter()
+        .enumerate()
+        .map(|(i, h)| (h.as_str(), i))
+        .collect();
     columns()
         .iter()
         .map(|(name, _)| {
             by_name.get(name).copied().ok_or_else(|| {
-                format_error(path, format!("no column `{name}`: not a gravline batch summary (or of another version)"))
+                format_error(
+                    path,
+                    format!(
+                        "no column `{name}`: not a gravline batch summary (or of another version)"
+                    ),
+                )
             })
         })
         .collect()
@@ -423,16 +481,24 @@ pub fn write_parquet(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
             let cell = |r: &Row| r.0.get(k).cloned();
             match kind {
                 Kind::Int => {
-                    let v: Vec<Option<i64>> = rows.iter().map(|r| cell(r).and_then(|c| c.as_i64())).collect();
+                    let v: Vec<Option<i64>> = rows
+                        .iter()
+                        .map(|r| cell(r).and_then(|c| c.as_i64()))
+                        .collect();
                     Column::new(name, v)
                 }
                 Kind::Float => {
-                    let v: Vec<Option<f64>> = rows.iter().map(|r| cell(r).and_then(|c| c.as_f64())).collect();
+                    let v: Vec<Option<f64>> = rows
+                        .iter()
+                        .map(|r| cell(r).and_then(|c| c.as_f64()))
+                        .collect();
                     Column::new(name, v)
                 }
                 Kind::Text => {
-                    let v: Vec<Option<String>> =
-                        rows.iter().map(|r| cell(r).and_then(|c| c.as_str().map(str::to_string))).collect();
+                    let v: Vec<Option<String>> = rows
+                        .iter()
+                        .map(|r| cell(r).and_then(|c| c.as_str().map(str::to_string)))
+                        .collect();
                     Column::new(name, v)
                 }
             }
@@ -446,15 +512,22 @@ pub fn write_parquet(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
 /// Reads a summary table written by [`write_parquet`].
 pub fn read_parquet(path: &Path) -> Result<Vec<Row>, TableError> {
     use polars::prelude::*;
-    let file = std::fs::File::open(path)
-        .map_err(|source| TableError::Read { path: path.display().to_string(), source })?;
-    let df = ParquetReader::new(file).finish().map_err(|e| format_error(path, e.to_string()))?;
+    let file = std::fs::File::open(path).map_err(|source| TableError::Read {
+        path: path.display().to_string(),
+        source,
+    })?;
+    let df = ParquetReader::new(file)
+        .finish()
+        .map_err(|e| format_error(path, e.to_string()))?;
     let n = df.height();
     let cols = columns();
     let mut table: Vec<Vec<Cell>> = (0..n).map(|_| Vec::with_capacity(cols.len())).collect();
     for (name, kind) in cols {
         let column = df.column(name).map_err(|_| {
-            format_error(path, format!("no column `{name}`: not a gravline batch summary (or of another version)"))
+            format_error(
+                path,
+                format!("no column `{name}`: not a gravline batch summary (or of another version)"),
+            )
         })?;
         let wrong = |e: PolarsError| format_error(path, format!("column `{name}`: {e}"));
         let series = column.as_materialized_series();
@@ -481,7 +554,9 @@ pub fn read_parquet(path: &Path) -> Result<Vec<Row>, TableError> {
 
 /// Reads a summary table, Parquet or CSV by the file's extension.
 pub fn read_table(path: &Path) -> Result<Vec<Row>, TableError> {
-    let ext = path.extension().map(|e| e.to_string_lossy().to_ascii_lowercase());
+    let ext = path
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase());
     match ext.as_deref() {
         Some("parquet") => read_parquet(path),
         Some("csv") => read_csv(path),
@@ -537,7 +612,9 @@ pub fn groups(rows: &[Row]) -> Vec<GroupStat> {
         let mut order: Vec<String> = Vec::new();
         let mut members: HashMap<String, Vec<&Row>> = HashMap::new();
         for row in rows.iter().filter(|r| r.is_ok()) {
-            let Some(g) = row.get(by).and_then(Cell::as_str) else { continue };
+            let Some(g) = row.get(by).and_then(Cell::as_str) else {
+                continue;
+            };
             if !members.contains_key(g) {
                 order.push(g.to_string());
             }
@@ -552,7 +629,14 @@ pub fn groups(rows: &[Row]) -> Vec<GroupStat> {
                     .filter(|v| v.is_finite())
                     .collect();
                 let (mean, sd) = mean_sd(&values);
-                out.push(GroupStat { by, group: g.clone(), figure, n: values.len(), mean, sd });
+                out.push(GroupStat {
+                    by,
+                    group: g.clone(),
+                    figure,
+                    n: values.len(),
+                    mean,
+                    sd,
+                });
             }
         }
     }
@@ -566,7 +650,8 @@ pub fn mean_sd(values: &[f64]) -> (Option<f64>, Option<f64>) {
         return (None, None);
     }
     let mean = values.iter().sum::<f64>() / n as f64;
-    let sd = (n >= 2).then(|| (values.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1) as f64).sqrt());
+    let sd = (n >= 2)
+        .then(|| (values.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1) as f64).sqrt());
     (Some(mean), sd)
 }
 
@@ -576,7 +661,14 @@ pub fn write_groups(stats: &[GroupStat], w: &mut dyn Write) -> std::io::Result<(
     out.write_record(["by", "group", "figure", "n", "mean", "sd"])?;
     for s in stats {
         let num = |v: Option<f64>| v.map_or(String::new(), |v| v.to_string());
-        out.write_record([s.by, &s.group, s.figure, &s.n.to_string(), &num(s.mean), &num(s.sd)])?;
+        out.write_record([
+            s.by,
+            &s.group,
+            s.figure,
+            &s.n.to_string(),
+            &num(s.mean),
+            &num(s.sd),
+        ])?;
     }
     out.flush()
 }
@@ -606,13 +698,23 @@ mod tests {
         names.dedup();
         assert_eq!(names.len(), cols.len());
         for f in GROUP_FIGURES {
-            assert_eq!(cols.iter().find(|c| c.0 == f).map(|c| c.1), Some(Kind::Float), "{f}");
+            assert_eq!(
+                cols.iter().find(|c| c.0 == f).map(|c| c.1),
+                Some(Kind::Float),
+                "{f}"
+            );
         }
     }
 
     #[test]
     fn an_error_row_has_only_its_key_and_message() {
-        let key = RowKey { row: 3, id: "w", trial: "w.csv", subject: Some("s1"), condition: None };
+        let key = RowKey {
+            row: 3,
+            id: "w",
+            trial: "w.csv",
+            subject: Some("s1"),
+            condition: None,
+        };
         let r = Row::error(&key, "bad\nthing");
         assert_eq!(r.get("status").and_then(Cell::as_str), Some("error"));
         assert_eq!(r.get("error").and_then(Cell::as_str), Some("bad thing"));

@@ -49,8 +49,10 @@ pub fn standing_markers() -> Vec<(String, [f64; 3])> {
 /// ML angles sine waves whose amplitude and frequency follow `seed`, so that each trial's
 /// figures differ. `skip` leaves a marker out of the file.
 pub fn standing_csv(frames: usize, seed: u64, skip: Option<&str>) -> String {
-    let markers: Vec<(String, [f64; 3])> =
-        standing_markers().into_iter().filter(|(m, _)| Some(m.as_str()) != skip).collect();
+    let markers: Vec<(String, [f64; 3])> = standing_markers()
+        .into_iter()
+        .filter(|(m, _)| Some(m.as_str()) != skip)
+        .collect();
     let s = seed as f64;
     let ap_rad = 0.004 + 0.001 * (s % 7.0);
     let ml_rad = 0.002 + 0.0007 * (s % 5.0);
@@ -67,7 +69,12 @@ pub fn standing_csv(frames: usize, seed: u64, skip: Option<&str>) -> String {
         csv.push_str(&format!("{t:.2}"));
         for (_, p) in &markers {
             let h = (p[2] - 70.0).max(0.0);
-            csv.push_str(&format!(",{:.3},{:.3},{:.3}", p[0] + h * ap, p[1] + h * ml, p[2]));
+            csv.push_str(&format!(
+                ",{:.3},{:.3},{:.3}",
+                p[0] + h * ap,
+                p[1] + h * ml,
+                p[2]
+            ));
         }
         csv.push('\n');
     }
@@ -117,7 +124,10 @@ pub fn standing_batch(dir: &Path, n: usize, frames: usize) -> (PathBuf, Vec<Mani
 pub fn write_manifest(path: &Path, rows: &[ManifestRow]) {
     let mut text = String::from("trial,subject,mass_kg,height_m,sex,condition\n");
     for r in rows {
-        text.push_str(&format!("{},{},{},{},{},{}\n", r.trial, r.subject, r.mass_kg, r.height_m, r.sex, r.condition));
+        text.push_str(&format!(
+            "{},{},{},{},{},{}\n",
+            r.trial, r.subject, r.mass_kg, r.height_m, r.sex, r.condition
+        ));
     }
     write(path, &text);
 }
@@ -126,14 +136,19 @@ pub fn write_manifest(path: &Path, rows: &[ManifestRow]) {
 pub fn read_csv(path: &Path) -> (Vec<String>, Vec<Vec<String>>) {
     let mut r = csv::Reader::from_path(path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
     let header = r.headers().unwrap().iter().map(str::to_string).collect();
-    let rows = r.records().map(|rec| rec.unwrap().iter().map(str::to_string).collect()).collect();
+    let rows = r
+        .records()
+        .map(|rec| rec.unwrap().iter().map(str::to_string).collect())
+        .collect();
     (header, rows)
 }
 
 /// The rows of a CSV file as column name -> cell maps.
 pub fn csv_maps(path: &Path) -> Vec<BTreeMap<String, String>> {
     let (header, rows) = read_csv(path);
-    rows.into_iter().map(|r| header.iter().cloned().zip(r).collect()).collect()
+    rows.into_iter()
+        .map(|r| header.iter().cloned().zip(r).collect())
+        .collect()
 }
 
 /// The gravline binary.
