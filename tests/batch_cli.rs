@@ -467,3 +467,72 @@ fn a_manifest_without_a_required_column_stops_with_exit_2() {
         .code(2);
     assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("none.csv"));
 }
+
+#[test]
+fn a_row_config_replaces_the_batch_config_and_a_bad_one_fails_its_row_only() {
+    let dir = tempfile::tempdir().unwrap();
+    for i in 0..3 {
+        write(
+            &dir.path().join(format!("t{i}.csv")),
+            &standing_csv(60, i, None),
+        );
+    }
+    write(&dir.path().join("base.toml"), "[filter]\ncutoff_hz = 4.0\n");
+    write(
+        &dir.path().join("cfg/raw.toml"),
+        "[filter]\ncutoff_hz = \"none\"\n",
+    );
+    write(
+        &dir.path().join("cfg/typo.toml"),
+        "[filter]\ncutof_hz = 6.0\n",
+    );
+    let m = dir.path().join("m.csv");
+    write(
+        &m,
+        "trial,subject,mass_kg,height_m,sex,config\n\
+         t0.csv,s1,70,1.75,male,\n\
+         t1.csv,s1,70,1.75,male,cfg/raw.toml\n\
+         t2.csv,s1,70,1.75,male,cfg/typo.toml\n",
+    );
+    let out = dir.path().join("out");
+    let base = dir.path().join("base.toml");
+    gravline()
+        .args([
+            "batch",
+            m.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+            "--no-plots",
+            "-q",
+        ])
+        .args(["--config", base.to_str().unwrap()])
+        .assert()
+        .code(1);
+    let rows = csv_maps(&out.join("summary.csv"));
+    assert_eq!(
+        rows[0]["cutoff_hz"], "4",
+        "rows without a config cell use --config"
+    );
+    assert_eq!(
+        (rows[1]["status"].as_str(), rows[1]["cutoff_hz"].as_str()),
+        ("ok", "")
+    );
+    assert!(rows[2]["error"].contains("typo.toml") && rows[2]["error"].contains("cutof_hz"));
+    assert_ne!(rows[0]["config_sha256"], rows[1]["config_sha256"]);
+
+    // A --config that does not validate stops the batch before any trial.
+    let a = gravline()
+        .args([
+            "batch",
+            m.to_str().unwrap(),
+            "--out",
+            dir.path().join("o2").to_str().unwrap(),
+        ])
+        .args([
+            "--config",
+            dir.path().join("cfg/typo.toml").to_str().unwrap(),
+        ])
+        .assert()
+        .code(2);
+    assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("cutof_hz"));
+}

@@ -23,7 +23,8 @@ use std::sync::Arc;
 /// Columns a manifest must have.
 pub const REQUIRED_COLUMNS: [&str; 5] = ["trial", "subject", "mass_kg", "height_m", "sex"];
 
-/// Optional subject measurements a manifest (or `subjects.csv`) may carry, in metres.
+/// Optional subject measurements a manifest (or `subjects.csv`) may carry, in metres, in the
+/// order of the [`Subject`] fields they fill.
 pub const SUBJECT_FIELDS: [&str; 7] = [
     "leg_length_m",
     "asis_width_m",
@@ -165,19 +166,18 @@ impl Record<'_> {
             .ok_or_else(|| format!("{}: sex = `{sex_text}`; use female or male", self.origin))?;
         let mut subject = Subject::new(mass_kg, height_m, sex);
         subject.name = self.get("subject").map(str::to_string);
-        for field in SUBJECT_FIELDS {
-            let Some(text) = self.get(field) else {
-                continue;
-            };
-            let value = Some(self.number(field, text)?);
-            match field {
-                "leg_length_m" => subject.leg_length_m = value,
-                "asis_width_m" => subject.asis_width_m = value,
-                "marker_radius_m" => subject.marker_radius_m = value,
-                "knee_width_m" => subject.knee_width_m = value,
-                "ankle_width_m" => subject.ankle_width_m = value,
-                "elbow_width_m" => subject.elbow_width_m = value,
-                _ => subject.wrist_width_m = value,
+        let fields: [&mut Option<f64>; 7] = [
+            &mut subject.leg_length_m,
+            &mut subject.asis_width_m,
+            &mut subject.marker_radius_m,
+            &mut subject.knee_width_m,
+            &mut subject.ankle_width_m,
+            &mut subject.elbow_width_m,
+            &mut subject.wrist_width_m,
+        ];
+        for (name, field) in SUBJECT_FIELDS.iter().zip(fields) {
+            if let Some(text) = self.get(name) {
+                *field = Some(self.number(name, text)?);
             }
         }
         subject.validate(&self.origin).map_err(|e| e.to_string())
@@ -282,11 +282,10 @@ impl Table {
     }
 }
 
-fn known_columns(extra: &[&'static str]) -> Vec<&'static str> {
+fn known_columns() -> Vec<&'static str> {
     let mut known: Vec<&str> = REQUIRED_COLUMNS.to_vec();
     known.extend(["condition", "config"]);
     known.extend(SUBJECT_FIELDS);
-    known.extend(extra);
     known
 }
 
@@ -334,7 +333,7 @@ pub fn read_manifest(path: &Path, base: Config) -> Result<Plan, ManifestError> {
     }
     assign_ids(&mut jobs);
     let warnings = table
-        .ignored_columns(&known_columns(&[]))
+        .ignored_columns(&known_columns())
         .into_iter()
         .collect();
     Ok(Plan {
@@ -417,13 +416,11 @@ pub fn read_directory(
         files: HashMap::new(),
     };
     let mut jobs = Vec::with_capacity(names.len());
-    let mut used = HashSet::new();
     for (i, name) in names.iter().enumerate() {
         let record = subjects
             .as_ref()
             .zip(by_name.get(name))
             .and_then(|(t, &k)| t.record(k));
-        used.insert(name.clone());
         let (subject, condition, setup) = match &record {
             Some(r) => {
                 let setup = r.subject().and_then(|subject| {
@@ -468,11 +465,11 @@ pub fn read_directory(
     assign_ids(&mut jobs);
     let mut warnings = Vec::new();
     if let Some(t) = &subjects {
-        warnings.extend(t.ignored_columns(&known_columns(&[])));
+        warnings.extend(t.ignored_columns(&known_columns()));
         let unused: Vec<&str> = by_name
             .keys()
             .map(String::as_str)
-            .filter(|n| !used.contains(*n))
+            .filter(|n| !names.iter().any(|m| m == n))
             .collect();
         if !unused.is_empty() {
             warnings.push(format!(
@@ -609,6 +606,24 @@ mod tests {
         assert_eq!(plan.warnings.len(), 1);
         assert!(plan.warnings[0].contains("notes"));
         assert_eq!(plan.jobs[1].path, dir.path().join("b.csv"));
+    }
+
+    #[test]
+    fn subject_measurements_come_from_their_columns() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = write(
+            dir.path(),
+            "m.csv",
+            "trial,subject,mass_kg,height_m,sex,leg_length_m,knee_width_m,wrist_width_m\na.csv,s1,70,1.75,f,0.91,0.105,\n",
+        );
+        let plan = read_manifest(&p, Config::default()).unwrap();
+        let s = &plan.jobs[0].setup.as_ref().unwrap().subject;
+        assert_eq!(
+            (s.sex, s.leg_length_m, s.knee_width_m),
+            (Sex::Female, Some(0.91), Some(0.105))
+        );
+        assert_eq!((s.wrist_width_m, s.name.as_deref()), (None, Some("s1")));
+        assert!(plan.warnings.is_empty());
     }
 
     #[test]
