@@ -9,7 +9,6 @@ use gravline::config::{Config, RawConfig, RawCutoff, Subject, DEFAULT_CONFIG_TOM
 use gravline::pipeline::{self, OutputOptions, RunOptions, Setup};
 use gravline::report::plots::PlotFormat;
 use gravline::report::CAUTIONS;
-use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
@@ -183,7 +182,10 @@ struct DemoArgs {
 /// Runs the command line; `Err` is a could-not-start error (exit code 2).
 pub fn run() -> Result<ExitCode> {
     let cli = Cli::parse();
-    let ui = Ui { quiet: cli.quiet, verbose: cli.verbose };
+    let ui = Ui {
+        quiet: cli.quiet,
+        verbose: cli.verbose,
+    };
     match cli.command {
         Command::Trial(a) => trial(&a, &ui),
         Command::Cutoff(a) => cutoff(&a),
@@ -217,12 +219,19 @@ impl Ui {
         if self.quiet || warnings.is_empty() {
             return;
         }
-        let shown = if self.verbose { warnings.len() } else { warnings.len().min(5) };
+        let shown = if self.verbose {
+            warnings.len()
+        } else {
+            warnings.len().min(5)
+        };
         for w in &warnings[..shown] {
             eprintln!("{trial}: warning: {w}");
         }
         if shown < warnings.len() {
-            eprintln!("{trial}: {} more warnings in summary.json (-v shows all)", warnings.len() - shown);
+            eprintln!(
+                "{trial}: {} more warnings in summary.json (-v shows all)",
+                warnings.len() - shown
+            );
         }
     }
 }
@@ -240,7 +249,11 @@ fn raw_config(args: &SetupArgs) -> Result<(RawConfig, String)> {
         raw.input.rate_hz = Some(r);
     }
     if let Some(c) = args.cutoff_hz {
-        raw.filter.cutoff_hz = Some(if c == 0.0 { RawCutoff::Word("none".into()) } else { RawCutoff::Hz(c) });
+        raw.filter.cutoff_hz = Some(if c == 0.0 {
+            RawCutoff::Word("none".into())
+        } else {
+            RawCutoff::Hz(c)
+        });
     }
     if let Some(g) = args.max_gap_s {
         raw.filter.max_gap_s = Some(g);
@@ -271,9 +284,17 @@ fn subject(args: &SubjectArgs) -> Result<Subject> {
 
 fn trial(a: &TrialArgs, ui: &Ui) -> Result<ExitCode> {
     let setup = Setup::new(config(&a.setup)?, subject(&a.subject)?)?;
-    let stem = a.trial.file_stem().map_or("trial".into(), |s| s.to_string_lossy().into_owned());
+    let stem = a
+        .trial
+        .file_stem()
+        .map_or("trial".into(), |s| s.to_string_lossy().into_owned());
     let dir = a.out.join(&stem);
-    let options = OutputOptions { run: RunOptions { segments: a.segments }, plots: a.plots.formats() };
+    let options = OutputOptions {
+        run: RunOptions {
+            segments: a.segments,
+        },
+        plots: a.plots.formats(),
+    };
     let summary = pipeline::process_file(&a.trial, &setup, &dir, &options)?;
     ui.warnings(&stem, &summary.warnings);
     ui.info(&trial_line(&summary));
@@ -283,8 +304,14 @@ fn trial(a: &TrialArgs, ui: &Ui) -> Result<ExitCode> {
 
 /// One line per trial: frames, valid share, mean CoM height as a share of stature, path length.
 fn trial_line(s: &gravline::report::Summary) -> String {
-    let share = s.com.mean_height_of_stature.map_or("-".to_string(), |f| format!("{f:.3}"));
-    let speed = s.com.mean_speed_m_s.map_or("-".to_string(), |v| format!("{v:.2}"));
+    let share = s
+        .com
+        .mean_height_of_stature
+        .map_or("-".to_string(), |f| format!("{f:.3}"));
+    let speed = s
+        .com
+        .mean_speed_m_s
+        .map_or("-".to_string(), |v| format!("{v:.2}"));
     format!(
         "{}: {} frames, {:.1} % valid, mean CoM height {} of stature, CoM path {:.2} m, mean speed {} m/s",
         s.trial,
@@ -299,7 +326,7 @@ fn trial_line(s: &gravline::report::Summary) -> String {
 fn cutoff(a: &CutoffArgs) -> Result<ExitCode> {
     let config = config(&a.setup)?;
     let trial = gravline::trial::read_trial(&a.trial, &config.read_options())?;
-    let report = gravline::signal::residual::analyse_trial(&trial);
+    let report = gravline::signal::cutoff::analyse_trial(&trial);
     print!("{}", report.describe());
     if let Some(path) = &a.csv {
         gravline::report::write_atomic(path, |w| report.write_curves(w))
@@ -314,11 +341,20 @@ fn tables(a: &TablesArgs) -> Result<ExitCode> {
         SexArg::Male => Sex::Male,
     };
     match &a.name {
-        Some(name) => print!("{}", anthropometry::describe(&SegmentTable::load(name, sex)?)),
+        Some(name) => print!(
+            "{}",
+            anthropometry::describe(&SegmentTable::load(name, sex)?)
+        ),
         None => {
             for name in anthropometry::BUILTIN {
                 let t = SegmentTable::builtin(name, sex)?;
-                println!("{:<16} {} ({} rows; mass fractions sum to {:.4})", t.name, t.source, t.rows.len(), t.mass_sum);
+                println!(
+                    "{:<16} {} ({} rows; mass fractions sum to {:.4})",
+                    t.name,
+                    t.source,
+                    t.rows.len(),
+                    t.mass_sum
+                );
             }
             println!("\n`gravline tables NAME [--sex female]` shows the rows; anthropometry/README.md cites the sources.");
         }
@@ -333,7 +369,11 @@ fn landmarks(a: &LandmarksArgs) -> Result<ExitCode> {
             vocabulary::Sidedness::Sided => format!("l_{0} / r_{0}", l.stem),
             vocabulary::Sidedness::Single => l.stem.to_string(),
         };
-        let derived = if l.origin == vocabulary::Origin::Derived { " (computed unless given)" } else { "" };
+        let derived = if l.origin == vocabulary::Origin::Derived {
+            " (computed unless given)"
+        } else {
+            ""
+        };
         println!("#   {name:<28} {}{derived}", l.description);
     }
     let Some(path) = &a.trial else {
@@ -356,35 +396,56 @@ fn landmarks(a: &LandmarksArgs) -> Result<ExitCode> {
     }
     let unused: Vec<&String> = labels.iter().filter(|l| !names.contains(l)).collect();
     if !unused.is_empty() {
-        println!("# labels of the file not in the vocabulary: {}", unused.iter().map(|s| s.as_str()).collect::<Vec<_>>().join(", "));
+        println!(
+            "# labels of the file not in the vocabulary: {}",
+            unused
+                .iter()
+                .map(|s| s.as_str())
+                .collect::<Vec<_>>()
+                .join(", ")
+        );
     }
     Ok(ExitCode::SUCCESS)
 }
 
 /// Bundled example trials (examples/data/, made by `cargo run --example make_demo_data`).
 const DEMO_FILES: &[(&str, &str)] = &[
-    ("manifest.csv", include_str!("../examples/data/manifest.csv")),
+    (
+        "manifest.csv",
+        include_str!("../examples/data/manifest.csv"),
+    ),
     ("walk.csv", include_str!("../examples/data/walk.csv")),
     ("stand.csv", include_str!("../examples/data/stand.csv")),
     ("squat.csv", include_str!("../examples/data/squat.csv")),
     ("jump.csv", include_str!("../examples/data/jump.csv")),
-    ("squat-config.toml", include_str!("../examples/data/squat-config.toml")),
-    ("jump-config.toml", include_str!("../examples/data/jump-config.toml")),
+    (
+        "squat-config.toml",
+        include_str!("../examples/data/squat-config.toml"),
+    ),
+    (
+        "jump-config.toml",
+        include_str!("../examples/data/jump-config.toml"),
+    ),
 ];
 
 fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
     let inputs = a.out.join("inputs");
     for (name, text) in DEMO_FILES {
         let path = inputs.join(name);
-        gravline::report::write_atomic(&path, |w| w.write_all(text.as_bytes()))
+        gravline::report::write_atomic(&path, |w| std::io::Write::write_all(w, text.as_bytes()))
             .with_context(|| format!("cannot write {}", path.display()))?;
     }
     let manifest = inputs.join("manifest.csv");
     let mut reader = csv::Reader::from_path(&manifest)?;
     let headers = reader.headers()?.clone();
     let col = |name: &str| headers.iter().position(|h| h == name);
-    let (Some(t), Some(m), Some(h), Some(s)) = (col("trial"), col("mass_kg"), col("height_m"), col("sex")) else {
-        bail!("{}: bundled manifest lacks trial/mass_kg/height_m/sex columns", manifest.display());
+    let (Some(t), Some(m), Some(h), Some(s)) =
+        (col("trial"), col("mass_kg"), col("height_m"), col("sex"))
+    else {
+        bail!(
+            "{}: bundled manifest lacks trial/mass_kg/height_m/sex columns",
+            manifest.display()
+        );
     };
     let c = col("config");
     let sub = col("subject");
@@ -395,18 +456,28 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
         if let Some(c) = c.filter(|&c| !r[c].is_empty()) {
             setup_args.config = Some(inputs.join(&r[c]));
         }
-        let sex = Sex::parse(&r[s]).with_context(|| format!("bundled manifest: sex `{}`", &r[s]))?;
-        let mut subject = Subject::new(r[m].parse()?, r[h].parse()?, sex).validate("bundled manifest")?;
+        let sex =
+            Sex::parse(&r[s]).with_context(|| format!("bundled manifest: sex `{}`", &r[s]))?;
+        let mut subject =
+            Subject::new(r[m].parse()?, r[h].parse()?, sex).validate("bundled manifest")?;
         subject.name = sub.map(|i| r[i].to_string());
         let setup = Setup::new(config(&setup_args)?, subject)?;
-        let stem = Path::new(&r[t]).file_stem().map_or("trial".into(), |s| s.to_string_lossy().into_owned());
+        let stem = Path::new(&r[t])
+            .file_stem()
+            .map_or("trial".into(), |s| s.to_string_lossy().into_owned());
         let dir = a.out.join(&stem);
-        let options = OutputOptions { run: RunOptions::default(), plots: a.plots.formats() };
+        let options = OutputOptions {
+            run: RunOptions::default(),
+            plots: a.plots.formats(),
+        };
         let summary = pipeline::process_file(&trial_path, &setup, &dir, &options)?;
         ui.warnings(&stem, &summary.warnings);
         println!("{}", trial_line(&summary));
     }
-    ui.info(&format!("outputs in {}/<trial>/ (frames.csv, summary.json, steps.csv, plots)", a.out.display()));
+    ui.info(&format!(
+        "outputs in {}/<trial>/ (frames.csv, summary.json, steps.csv, plots)",
+        a.out.display()
+    ));
     ui.info(&format!("caution: {}", CAUTIONS[0]));
     Ok(ExitCode::SUCCESS)
 }

@@ -77,6 +77,16 @@ pub struct ResolvedLoad {
     source: LoadSource,
 }
 
+impl ResolvedLoad {
+    /// Trial marker indices the load reads (empty for a load placed at a model point).
+    pub fn marker_indices(&self) -> Vec<usize> {
+        match &self.source {
+            LoadSource::Markers(idx) => idx.clone(),
+            LoadSource::Point(_) => Vec::new(),
+        }
+    }
+}
+
 /// A group resolved to segment indices.
 #[derive(Clone, Debug, PartialEq)]
 pub struct ResolvedGroup {
@@ -89,11 +99,19 @@ pub struct ResolvedGroup {
 #[derive(Debug, thiserror::Error)]
 pub enum ComError {
     #[error("[[load]] `{load}`: marker `{marker}` not in {file}; list labels of the file (see `gravline landmarks {file}`)")]
-    LoadMarker { load: String, marker: String, file: String },
+    LoadMarker {
+        load: String,
+        marker: String,
+        file: String,
+    },
     #[error("[[load]] `{load}`: {source}")]
     LoadPoint { load: String, source: LandmarkError },
     #[error("[[group]] `{group}`: no segment `{segment}`; segments are {known}")]
-    GroupSegment { group: String, segment: String, known: String },
+    GroupSegment {
+        group: String,
+        segment: String,
+        known: String,
+    },
 }
 
 /// Per-frame CoM of one trial.
@@ -122,17 +140,24 @@ pub struct ComModel {
 
 impl ComModel {
     /// Resolves the configuration's loads and groups against the trial labels and the model.
-    pub fn new(labels: &[String], file: &str, config: &Config, body: &BodyModel) -> Result<ComModel, ComError> {
+    pub fn new(
+        labels: &[String],
+        file: &str,
+        config: &Config,
+        body: &BodyModel,
+    ) -> Result<ComModel, ComError> {
         let mut loads = Vec::new();
         for load in &config.loads {
             let source = match &load.position {
                 LoadPosition::Markers(names) => {
                     let mut idx = Vec::new();
                     for n in names {
-                        let i = labels.iter().position(|l| l == n).ok_or_else(|| ComError::LoadMarker {
-                            load: load.name.clone(),
-                            marker: n.clone(),
-                            file: file.to_string(),
+                        let i = labels.iter().position(|l| l == n).ok_or_else(|| {
+                            ComError::LoadMarker {
+                                load: load.name.clone(),
+                                marker: n.clone(),
+                                file: file.to_string(),
+                            }
                         })?;
                         idx.push(i);
                     }
@@ -146,13 +171,18 @@ impl ComModel {
                             source: LandmarkError::NeedsMeasurement {
                                 landmark: name.clone(),
                                 what: "a point of the body model".to_string(),
-                                hint: "name a segment endpoint or joint center such as r_wrist_jc".to_string(),
+                                hint: "name a segment endpoint or joint center such as r_wrist_jc"
+                                    .to_string(),
                             },
                         })
                     }
                 },
             };
-            loads.push(ResolvedLoad { name: load.name.clone(), mass_kg: load.mass_kg, source });
+            loads.push(ResolvedLoad {
+                name: load.name.clone(),
+                mass_kg: load.mass_kg,
+                source,
+            });
         }
         let groups = config
             .groups
@@ -161,7 +191,12 @@ impl ComModel {
             .collect::<Result<Vec<_>, _>>()?;
         let body_mass_kg: f64 = body.segments.iter().map(|s| s.mass_kg).sum();
         let system_mass_kg = body_mass_kg + loads.iter().map(|l| l.mass_kg).sum::<f64>();
-        Ok(ComModel { loads, groups, body_mass_kg, system_mass_kg })
+        Ok(ComModel {
+            loads,
+            groups,
+            body_mass_kg,
+            system_mass_kg,
+        })
     }
 
     /// Whether the system differs from the body (any load).
@@ -182,15 +217,25 @@ impl ComModel {
         for s in &body.segments {
             let origin = points.get(s.origin.id).copied().flatten();
             let other = points.get(s.other.id).copied().flatten();
-            seg.push(origin.zip(other).map(|(a, b)| segment_com(a, b, s.com_fraction)));
+            seg.push(
+                origin
+                    .zip(other)
+                    .map(|(a, b)| segment_com(a, b, s.com_fraction)),
+            );
         }
-        let body_com = weighted_average(body.segments.iter().zip(seg.iter()).map(|(s, c)| (s.mass_kg, *c)));
+        let body_com = weighted_average(
+            body.segments
+                .iter()
+                .zip(seg.iter())
+                .map(|(s, c)| (s.mass_kg, *c)),
+        );
         let mut loads = Vec::with_capacity(self.loads.len());
         for l in &self.loads {
             let p = match &l.source {
-                LoadSource::Markers(idx) => {
-                    weighted_average(idx.iter().map(|&i| (1.0, markers.get(i).copied().flatten().map(P::from))))
-                }
+                LoadSource::Markers(idx) => weighted_average(
+                    idx.iter()
+                        .map(|&i| (1.0, markers.get(i).copied().flatten().map(P::from))),
+                ),
                 LoadSource::Point(id) => points.get(*id).copied().flatten(),
             };
             loads.push(p);
@@ -206,9 +251,20 @@ impl ComModel {
         let groups = self
             .groups
             .iter()
-            .map(|g| weighted_average(g.segments.iter().map(|&i| (body.segments[i].mass_kg, seg[i]))))
+            .map(|g| {
+                weighted_average(
+                    g.segments
+                        .iter()
+                        .map(|&i| (body.segments[i].mass_kg, seg[i])),
+                )
+            })
             .collect();
-        FrameCom { body: body_com, system, loads, groups }
+        FrameCom {
+            body: body_com,
+            system,
+            loads,
+            groups,
+        }
     }
 }
 
@@ -236,7 +292,12 @@ fn resolve_group(group: &Group, body: &BodyModel) -> Result<ResolvedGroup, ComEr
             return Err(ComError::GroupSegment {
                 group: group.name.clone(),
                 segment: entry.clone(),
-                known: body.segments.iter().map(|s| s.name.as_str()).collect::<Vec<_>>().join(", "),
+                known: body
+                    .segments
+                    .iter()
+                    .map(|s| s.name.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", "),
             });
         }
         for i in matches {
@@ -246,7 +307,11 @@ fn resolve_group(group: &Group, body: &BodyModel) -> Result<ResolvedGroup, ComEr
         }
     }
     let mass_kg = segments.iter().map(|&i| body.segments[i].mass_kg).sum();
-    Ok(ResolvedGroup { name: group.name.clone(), segments, mass_kg })
+    Ok(ResolvedGroup {
+        name: group.name.clone(),
+        segments,
+        mass_kg,
+    })
 }
 
 #[cfg(test)]
@@ -256,13 +321,20 @@ mod tests {
 
     #[test]
     fn two_equal_masses_give_the_midpoint() {
-        let c = weighted_average([(2.0, Some(P::new(0.0, 0.0, 0.0))), (2.0, Some(P::new(1.0, 2.0, 3.0)))]).unwrap();
+        let c = weighted_average([
+            (2.0, Some(P::new(0.0, 0.0, 0.0))),
+            (2.0, Some(P::new(1.0, 2.0, 3.0))),
+        ])
+        .unwrap();
         assert_abs_diff_eq!(c, P::new(0.5, 1.0, 1.5), epsilon = 1e-15);
     }
 
     #[test]
     fn a_missing_segment_leaves_no_com() {
-        assert_eq!(weighted_average([(1.0, Some(P::zeros())), (1.0, None)]), None);
+        assert_eq!(
+            weighted_average([(1.0, Some(P::zeros())), (1.0, None)]),
+            None
+        );
     }
 
     /// reference/segment-tables.md 5, derived example 1: the thigh CoM by Winter (f = 0.433),
@@ -284,7 +356,10 @@ mod tests {
     /// v = 1.30 m/s -> 0.4045 m ahead.
     #[test]
     fn xcom_check_values() {
-        assert_eq!(xcom_horizontal([0.3, 0.1], [0.0, 0.0], omega0(1.0)), [0.3, 0.1]);
+        assert_eq!(
+            xcom_horizontal([0.3, 0.1], [0.0, 0.0], omega0(1.0)),
+            [0.3, 0.1]
+        );
         let xi = xcom_horizontal([0.0, 0.0], [1.30, 0.0], omega0(0.95));
         assert_abs_diff_eq!(xi[0], 0.4045, epsilon = 5e-5);
         assert_abs_diff_eq!(omega0(0.95), (9.81f64 / 0.95).sqrt(), epsilon = 1e-15);

@@ -12,7 +12,10 @@ use std::path::Path;
 #[derive(Debug, thiserror::Error)]
 pub enum ConfigError {
     #[error("cannot read {path}: {source}")]
-    Io { path: String, source: std::io::Error },
+    Io {
+        path: String,
+        source: std::io::Error,
+    },
     #[error("{path}: {message}")]
     Toml { path: String, message: String },
     #[error("{path}: {message}")]
@@ -144,8 +147,10 @@ impl RawConfig {
 }
 
 fn read(path: &Path) -> Result<String, ConfigError> {
-    std::fs::read_to_string(path)
-        .map_err(|source| ConfigError::Io { path: path.display().to_string(), source })
+    std::fs::read_to_string(path).map_err(|source| ConfigError::Io {
+        path: path.display().to_string(),
+        source,
+    })
 }
 
 /// Collapses a multi-line parser message (toml shows the offending line) into one line.
@@ -195,10 +200,17 @@ pub enum VirtualDef {
     /// Mean of the listed landmarks.
     Mean(Vec<String>),
     /// `from + fraction * (to - from)`.
-    Along { from: String, to: String, fraction: f64 },
+    Along {
+        from: String,
+        to: String,
+        fraction: f64,
+    },
     /// A fixed offset in the frame of three landmarks: origin `o`, x toward `a`, z normal to the
     /// plane (o, a, b) (right-handed: z = x cross (b - o)), y = z cross x.
-    Offset { frame: [String; 3], offset_m: [f64; 3] },
+    Offset {
+        frame: [String; 3],
+        offset_m: [f64; 3],
+    },
 }
 
 /// Where a load's position comes from.
@@ -288,18 +300,25 @@ impl Default for Config {
 impl Config {
     /// Validates a raw configuration; `origin` names the file in errors.
     pub fn from_raw(raw: &RawConfig, origin: &str) -> Result<Config, ConfigError> {
-        let invalid = |message: String| ConfigError::Invalid { path: origin.to_string(), message };
+        let invalid = |message: String| ConfigError::Invalid {
+            path: origin.to_string(),
+            message,
+        };
         let units = match raw.input.units.as_deref().map(str::trim) {
             None | Some("mm") => LengthUnit::Millimetres,
             Some("m") => LengthUnit::Metres,
             Some(other) => {
-                return Err(invalid(format!("[input] units = `{other}`; use \"mm\" or \"m\"")))
+                return Err(invalid(format!(
+                    "[input] units = `{other}`; use \"mm\" or \"m\""
+                )))
             }
         };
         let up_axis = match raw.input.up_axis.as_deref() {
             None => UpAxis::Z,
             Some(text) => UpAxis::parse(text).ok_or_else(|| {
-                invalid(format!("[input] up_axis = `{text}`; use one of z, y, x, -z, -y, -x"))
+                invalid(format!(
+                    "[input] up_axis = `{text}`; use one of z, y, x, -z, -y, -x"
+                ))
             })?,
         };
         if let Some(rate) = raw.input.rate_hz {
@@ -320,7 +339,9 @@ impl Config {
             None | Some("required") => ArmsMode::Required,
             Some("hanging") => ArmsMode::Hanging,
             Some(other) => {
-                return Err(invalid(format!("[model] arms = `{other}`; use \"required\" or \"hanging\"")))
+                return Err(invalid(format!(
+                    "[model] arms = `{other}`; use \"required\" or \"hanging\""
+                )))
             }
         };
         let mut endpoints = BTreeMap::new();
@@ -338,12 +359,16 @@ impl Config {
             }
             Some(RawCutoff::Word(w)) if w == "none" => None,
             Some(RawCutoff::Word(w)) => {
-                return Err(invalid(format!("[filter] cutoff_hz = `{w}`; give Hz or \"none\"")))
+                return Err(invalid(format!(
+                    "[filter] cutoff_hz = `{w}`; give Hz or \"none\""
+                )))
             }
         };
         let max_gap_s = raw.filter.max_gap_s.unwrap_or(DEFAULT_MAX_GAP_S);
         if !(max_gap_s >= 0.0 && max_gap_s.is_finite()) {
-            return Err(invalid(format!("[filter] max_gap_s = {max_gap_s}; give seconds >= 0")));
+            return Err(invalid(format!(
+                "[filter] max_gap_s = {max_gap_s}; give seconds >= 0"
+            )));
         }
         let s = &raw.support;
         for (value, key) in [
@@ -355,7 +380,10 @@ impl Config {
                 positive(v, &format!("[support] {key}")).map_err(invalid)?;
             }
         }
-        for (value, key) in [(s.min_contact_s, "min_contact_s"), (s.min_flight_s, "min_flight_s")] {
+        for (value, key) in [
+            (s.min_contact_s, "min_contact_s"),
+            (s.min_flight_s, "min_flight_s"),
+        ] {
             if let Some(v) = value {
                 if !(v >= 0.0 && v.is_finite()) {
                     return Err(invalid(format!("[support] {key} = {v}; give seconds >= 0")));
@@ -364,7 +392,9 @@ impl Config {
         }
         if let Some(f) = s.floor_m {
             if !f.is_finite() {
-                return Err(invalid("[support] floor_m must be a number of metres".to_string()));
+                return Err(invalid(
+                    "[support] floor_m must be a number of metres".to_string(),
+                ));
             }
         }
         let xcom_length = match &s.xcom_length {
@@ -375,13 +405,18 @@ impl Config {
                 XcomLength::Metres(*m)
             }
             Some(RawLength::Word(w)) => {
-                return Err(invalid(format!("[support] xcom_length = `{w}`; give \"leg\" or metres")))
+                return Err(invalid(format!(
+                    "[support] xcom_length = `{w}`; give \"leg\" or metres"
+                )))
             }
         };
         let mut loads = Vec::new();
         for l in &raw.load {
             if !(l.mass_kg >= 0.0 && l.mass_kg.is_finite()) {
-                return Err(invalid(format!("[[load]] `{}`: mass_kg = {}; give kg >= 0", l.name, l.mass_kg)));
+                return Err(invalid(format!(
+                    "[[load]] `{}`: mass_kg = {}; give kg >= 0",
+                    l.name, l.mass_kg
+                )));
             }
             let position = match (&l.markers, &l.position_of) {
                 (Some(m), None) if !m.is_empty() => LoadPosition::Markers(m.clone()),
@@ -393,7 +428,11 @@ impl Config {
                     )))
                 }
             };
-            loads.push(Load { name: l.name.clone(), mass_kg: l.mass_kg, position });
+            loads.push(Load {
+                name: l.name.clone(),
+                mass_kg: l.mass_kg,
+                position,
+            });
         }
         let mut groups = Vec::new();
         for g in &raw.group {
@@ -403,7 +442,10 @@ impl Config {
                     g.name
                 )));
             }
-            groups.push(Group { name: g.name.clone(), segments: g.segments.clone() });
+            groups.push(Group {
+                name: g.name.clone(),
+                segments: g.segments.clone(),
+            });
         }
         let mut virtual_landmarks = BTreeMap::new();
         for (name, v) in &raw.virtual_landmarks {
@@ -440,7 +482,11 @@ impl Config {
             up_axis,
             rate_hz: raw.input.rate_hz,
             landmarks: raw.landmarks.clone(),
-            table: raw.model.table.clone().unwrap_or_else(|| "de-leva-1996".to_string()),
+            table: raw
+                .model
+                .table
+                .clone()
+                .unwrap_or_else(|| "de-leva-1996".to_string()),
             hip,
             arms,
             endpoints,
@@ -463,7 +509,11 @@ impl Config {
 
     /// How to read trial files under this configuration.
     pub fn read_options(&self) -> ReadOptions {
-        ReadOptions { units: self.units, up_axis: self.up_axis, rate_hz: self.rate_hz }
+        ReadOptions {
+            units: self.units,
+            up_axis: self.up_axis,
+            rate_hz: self.rate_hz,
+        }
     }
 }
 
@@ -521,16 +571,24 @@ impl Subject {
     pub fn from_path(path: &Path) -> Result<Subject, ConfigError> {
         let text = read(path)?;
         let origin = path.display().to_string();
-        let subject: Subject = toml::from_str(&text)
-            .map_err(|e| ConfigError::Toml { path: origin.clone(), message: one_line(&e.to_string()) })?;
+        let subject: Subject = toml::from_str(&text).map_err(|e| ConfigError::Toml {
+            path: origin.clone(),
+            message: one_line(&e.to_string()),
+        })?;
         subject.validate(&origin)
     }
 
     /// Checks the figures are physical (mass 1-500 kg, stature 0.3-2.8 m, lengths positive).
     pub fn validate(self, origin: &str) -> Result<Subject, ConfigError> {
-        let invalid = |message: String| ConfigError::Invalid { path: origin.to_string(), message };
+        let invalid = |message: String| ConfigError::Invalid {
+            path: origin.to_string(),
+            message,
+        };
         if !(self.mass_kg > 1.0 && self.mass_kg < 500.0) {
-            return Err(invalid(format!("mass_kg = {}; give the body mass in kg (1-500)", self.mass_kg)));
+            return Err(invalid(format!(
+                "mass_kg = {}; give the body mass in kg (1-500)",
+                self.mass_kg
+            )));
         }
         if !(self.height_m > 0.3 && self.height_m < 2.8) {
             return Err(invalid(format!(
@@ -549,7 +607,9 @@ impl Subject {
         ] {
             if let Some(v) = value {
                 if !(v > 0.0 && v < 3.0) {
-                    return Err(invalid(format!("{key} = {v}; give metres (e.g. 0.10), not millimetres")));
+                    return Err(invalid(format!(
+                        "{key} = {v}; give metres (e.g. 0.10), not millimetres"
+                    )));
                 }
             }
         }
@@ -612,12 +672,17 @@ mod tests {
     #[test]
     fn the_printed_default_parses_to_the_default() {
         let raw = RawConfig::from_toml(DEFAULT_CONFIG_TOML, "default").unwrap();
-        assert_eq!(Config::from_raw(&raw, "default").unwrap(), Config::default());
+        assert_eq!(
+            Config::from_raw(&raw, "default").unwrap(),
+            Config::default()
+        );
     }
 
     #[test]
     fn unknown_keys_are_rejected_with_the_key() {
-        let e = RawConfig::from_toml("[filter]\ncutof_hz = 6\n", "c.toml").unwrap_err().to_string();
+        let e = RawConfig::from_toml("[filter]\ncutof_hz = 6\n", "c.toml")
+            .unwrap_err()
+            .to_string();
         assert!(e.starts_with("c.toml:") && e.contains("cutof_hz"), "{e}");
         assert!(!e.contains('\n'));
     }
@@ -632,10 +697,17 @@ mod tests {
         let c = Config::from_raw(&raw, "c").unwrap();
         assert_eq!(
             c.virtual_landmarks["l_toe"],
-            VirtualDef::Along { from: "l_heel".into(), to: "l_mt2".into(), fraction: 1.3 }
+            VirtualDef::Along {
+                from: "l_heel".into(),
+                to: "l_mt2".into(),
+                fraction: 1.3
+            }
         );
         let raw = RawConfig::from_toml("[virtual]\nx = { along = [\"a\", \"b\"] }\n", "c").unwrap();
-        assert!(Config::from_raw(&raw, "c").unwrap_err().to_string().contains("fraction"));
+        assert!(Config::from_raw(&raw, "c")
+            .unwrap_err()
+            .to_string()
+            .contains("fraction"));
     }
 
     #[test]
@@ -649,6 +721,9 @@ mod tests {
         let mut s = Subject::new(70.0, 1.75, Sex::Male);
         s.knee_width_m = Some(105.0);
         let e = s.validate("s.toml").unwrap_err().to_string();
-        assert!(e.contains("knee_width_m") && e.contains("not millimetres"), "{e}");
+        assert!(
+            e.contains("knee_width_m") && e.contains("not millimetres"),
+            "{e}"
+        );
     }
 }

@@ -1,15 +1,52 @@
-//! gravline: whole-body center of mass (CoM) from 3D marker trajectories, its velocity, and its
-//! margin to the base of support (BoS).
+//! gravline: the whole-body center of mass (CoM) from 3D marker trajectories, its velocity, and
+//! its margin to the base of support (BoS).
+//!
+//! The pipeline (DESIGN.md 2), one module per stage, dependencies running one way:
+//!
+//! ```text
+//! trial CSV --trial--> Trial (RawMarkers: gappy, metres, up axis known)
+//!   --signal--> Markers (gaps <= max_gap_s filled, low-passed)
+//!   --body + anthropometry--> landmarks, joint centers, segments with mass and CoM fractions
+//!   --com--> system / body / group CoM per frame, XCoM
+//!   --support--> contact, BoS polygon, signed margins, gait events
+//!   --report--> frames.csv, steps.csv, summary.json, plots      --batch--> summary tables
+//! ```
+//!
+//! [`pipeline::run_trial`] runs one trial through every stage; [`pipeline::process_file`] adds
+//! reading and writing. The command line and [`batch`] call these and nothing else.
+//!
+//! Glossary (the only abbreviations used in code and output):
+//! - **CoM**: center of mass.
+//! - **XCoM**: extrapolated center of mass, CoM + velocity / omega0 (Hof et al. 2005).
+//! - **BoS**: base of support, the convex hull of the feet in contact.
+//! - **MoS**: margin of stability, distance from the XCoM to the BoS edge.
+//! - **JC**: joint center.
 
+// Errors carry the file, label, position and a hint as text by design (one line a user can act
+// on); they are built at most once per trial, so their size does not matter.
+#![allow(clippy::result_large_err)]
+
+/// Segment tables: de Leva 1996, Dempster via Winter, user tables.
 pub mod anthropometry;
+/// Many trials: manifest, parallel runs, summary tables, shards.
 pub mod batch;
+/// Landmarks, joint centers and segments.
 pub mod body;
+/// Segment CoMs, the weighted whole-body CoM, loads, groups, XCoM.
 pub mod com;
+/// Configuration and subject, validated once.
 pub mod config;
+/// One trial through every stage.
 pub mod pipeline;
+/// frames.csv, steps.csv, summary.json and plots.
 pub mod report;
+/// Gap filling, zero-lag low-pass, residual analysis, derivatives.
 pub mod signal;
+/// Foot contact, BoS polygon, margins, gait events.
 pub mod support;
+/// Synthetic trials for the demo, the tests and the benchmarks.
 pub mod synth;
+/// Reading trial files.
 pub mod trial;
+/// Non-fatal findings kept in the summary.
 pub mod warning;

@@ -18,9 +18,9 @@ use crate::warning::Warning;
 /// Anything that stops a trial.
 #[derive(Debug, thiserror::Error)]
 pub enum PipelineError {
-    #[error("{0}")]
+    #[error(transparent)]
     Landmark(#[from] LandmarkError),
-    #[error("{0}")]
+    #[error(transparent)]
     Com(#[from] ComError),
     #[error("{file}: {source}")]
     Signal { file: String, source: SignalError },
@@ -108,15 +108,24 @@ pub fn run_trial(
 ) -> Result<TrialResult, PipelineError> {
     let labels = &trial.markers.labels;
     // Everything that can be missing is found out before any computation.
-    let mut body = BodyModel::build(labels, &trial.name, config, subject, table, &FOOT_POINTS)?;
-    let com_model = ComModel::new(labels, &trial.name, config, &body)?;
+    let mut body = BodyModel::build(labels, &trial.file, config, subject, table, &FOOT_POINTS)?;
+    let com_model = ComModel::new(labels, &trial.file, config, &body)?;
     let mut warnings = trial.warnings.clone();
 
     let (mut markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
-    warnings.extend(signal::filled_warnings(&gaps, labels, &trial.times_s, trial.rate_hz));
+    warnings.extend(signal::filled_warnings(
+        &gaps,
+        labels,
+        &trial.times_s,
+        trial.rate_hz,
+    ));
     if let Some(cutoff_hz) = config.cutoff_hz {
-        signal::low_pass(&mut markers, trial.rate_hz, cutoff_hz)
-            .map_err(|source| PipelineError::Signal { file: trial.name.clone(), source })?;
+        signal::low_pass(&mut markers, trial.rate_hz, cutoff_hz).map_err(|source| {
+            PipelineError::Signal {
+                file: trial.file.clone(),
+                source,
+            }
+        })?;
     }
 
     let n = trial.n_frames();
@@ -136,7 +145,11 @@ pub fn run_trial(
     let mut body_com = Vec::with_capacity(n);
     let mut loads = vec![Vec::with_capacity(n); com_model.loads.len()];
     let mut groups = vec![Vec::with_capacity(n); com_model.groups.len()];
-    let mut segments = if options.segments { vec![Vec::with_capacity(n); body.segments.len()] } else { Vec::new() };
+    let mut segments = if options.segments {
+        vec![Vec::with_capacity(n); body.segments.len()]
+    } else {
+        Vec::new()
+    };
     let mut foot = support::FootFrames::new(&body, n);
     for frame in 0..n {
         for &i in &used {
@@ -168,7 +181,8 @@ pub fn run_trial(
     };
     if xcom_length_m.is_none() {
         warnings.push(Warning::Approximation {
-            what: "no leg length (subject leg_length_m or ASIS and malleolus markers): no XCoM".to_string(),
+            what: "no leg length (subject leg_length_m or ASIS and malleolus markers): no XCoM"
+                .to_string(),
         });
     }
     let omega0 = xcom_length_m.map(com::omega0);
@@ -202,7 +216,11 @@ pub fn run_trial(
         population: table.population.clone(),
         table_source: table.source.clone(),
         hip: config.hip.name().to_string(),
-        segments: body.segments.iter().map(|s| format!("{} ({})", s.name, s.row_key)).collect(),
+        segments: body
+            .segments
+            .iter()
+            .map(|s| format!("{} ({})", s.name, s.row_key))
+            .collect(),
         body_mass_kg: com_model.body_mass_kg,
         system_mass_kg: com_model.system_mass_kg,
         cutoff_hz: config.cutoff_hz,
@@ -225,7 +243,11 @@ pub fn run_trial(
         loads,
         group_names: com_model.groups.iter().map(|g| g.name.clone()).collect(),
         groups,
-        segment_names: if options.segments { body.segments.iter().map(|s| s.name.clone()).collect() } else { Vec::new() },
+        segment_names: if options.segments {
+            body.segments.iter().map(|s| s.name.clone()).collect()
+        } else {
+            Vec::new()
+        },
         segments,
         support,
         model,
@@ -237,22 +259,27 @@ fn to_array(p: P) -> [f64; 3] {
     [p.x, p.y, p.z]
 }
 
-
 /// A fatal problem with one trial or its setup: one line, with file and position.
 #[derive(Debug, thiserror::Error)]
 pub enum Error {
-    #[error("{0}")]
+    #[error(transparent)]
     Trial(#[from] crate::trial::TrialError),
-    #[error("{0}")]
+    #[error(transparent)]
     Config(#[from] crate::config::ConfigError),
-    #[error("{0}")]
+    #[error(transparent)]
     Table(#[from] crate::anthropometry::TableError),
-    #[error("{0}")]
+    #[error(transparent)]
     Pipeline(#[from] PipelineError),
     #[error("cannot write {path}: {source}")]
-    Write { path: String, source: std::io::Error },
+    Write {
+        path: String,
+        source: std::io::Error,
+    },
     #[error("cannot read {path}: {source}")]
-    Read { path: String, source: std::io::Error },
+    Read {
+        path: String,
+        source: std::io::Error,
+    },
 }
 
 /// A validated configuration, subject and table: everything a trial needs besides its file.
@@ -267,7 +294,11 @@ impl Setup {
     /// Loads the table the configuration names for the subject's sex.
     pub fn new(config: Config, subject: Subject) -> Result<Setup, Error> {
         let table = SegmentTable::load(&config.table, subject.sex)?;
-        Ok(Setup { config, subject, table })
+        Ok(Setup {
+            config,
+            subject,
+            table,
+        })
     }
 
     /// SHA-256 of the configuration, subject and table, as JSON (for provenance and resume).
@@ -298,9 +329,14 @@ pub fn process_file(
     dir: &std::path::Path,
     options: &OutputOptions,
 ) -> Result<crate::report::Summary, Error> {
-    let bytes = std::fs::read(path).map_err(|source| Error::Read { path: path.display().to_string(), source })?;
+    let bytes = std::fs::read(path).map_err(|source| Error::Read {
+        path: path.display().to_string(),
+        source,
+    })?;
     let input_sha256 = crate::report::sha256_hex(&bytes);
-    let stem = path.file_stem().map_or("trial".to_string(), |s| s.to_string_lossy().into_owned());
+    let stem = path
+        .file_stem()
+        .map_or("trial".to_string(), |s| s.to_string_lossy().into_owned());
     let trial = crate::trial::read_trial_from(
         bytes.as_slice(),
         &path.display().to_string(),
@@ -308,9 +344,16 @@ pub fn process_file(
         &setup.config.read_options(),
     )?;
     drop(bytes);
-    let result = run_trial(&trial, &setup.config, &setup.subject, &setup.table, options.run)?;
+    let result = run_trial(
+        &trial,
+        &setup.config,
+        &setup.subject,
+        &setup.table,
+        options.run,
+    )?;
     drop(trial);
-    let summary = crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());
+    let summary =
+        crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());
     crate::report::write_outputs(dir, &result, &summary, &options.plots)?;
     Ok(summary)
 }

@@ -94,7 +94,12 @@ pub fn harrington_single_variable_mm(pw: f64, pd: f64) -> [f64; 3] {
 }
 
 /// Hip JC in the lab for one side (`right = true` for the right hip).
-pub fn hip_jc(method: HipMethod, pelvis: &PelvisFrame, leg_length_m: f64, right: bool) -> Option<P> {
+pub fn hip_jc(
+    method: HipMethod,
+    pelvis: &PelvisFrame,
+    leg_length_m: f64,
+    right: bool,
+) -> Option<P> {
     let [x, y, z] = hip_regression_mm(
         method,
         pelvis.width_m * 1e3,
@@ -123,7 +128,9 @@ pub fn shoulder_jc(acromion: P, other_acromion: P, down: P) -> P {
 pub fn vertex(head: [P; 4], c7: P, height_m: f64) -> Option<P> {
     let centroid = (head[0] + head[1] + head[2] + head[3]) / 4.0;
     // Diagonals: left-front to right-back and right-front to left-back.
-    let n = (head[3] - head[0]).cross(&(head[2] - head[1])).try_normalize(1e-9)?;
+    let n = (head[3] - head[0])
+        .cross(&(head[2] - head[1]))
+        .try_normalize(1e-9)?;
     let n = if n.dot(&(centroid - c7)) < 0.0 { -n } else { n };
     Some(centroid + n * (VERTEX_ABOVE_HEAD_MARKERS * height_m))
 }
@@ -182,7 +189,11 @@ mod tests {
         )
         .unwrap();
         let axis = (P::new(0.0, 0.05, 0.5) - P::new(0.0, 0.0, 1.0)).normalize();
-        assert_abs_diff_eq!((jc - P::new(0.0, 0.05, 0.5)).dot(&axis), 0.0, epsilon = 1e-12);
+        assert_abs_diff_eq!(
+            (jc - P::new(0.0, 0.05, 0.5)).dot(&axis),
+            0.0,
+            epsilon = 1e-12
+        );
         assert_abs_diff_eq!((jc - P::new(0.0, 0.05, 0.5)).norm(), 0.06, epsilon = 1e-12);
     }
 }

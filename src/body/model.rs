@@ -29,16 +29,47 @@ enum Def {
     /// A marker of the trial (index into the frame's marker slice).
     Marker(usize),
     Mean(Vec<PointId>),
-    Along { from: PointId, to: PointId, fraction: f64 },
-    Offset { frame: [PointId; 3], offset_m: [f64; 3] },
+    Along {
+        from: PointId,
+        to: PointId,
+        fraction: f64,
+    },
+    Offset {
+        frame: [PointId; 3],
+        offset_m: [f64; 3],
+    },
     Midpoint(PointId, PointId),
     /// A JC medial to a lateral marker (see [`joints::medial_offset`]).
-    Medial { lateral: PointId, axis_from: PointId, axis_to: PointId, toward_from: PointId, toward_to: PointId, offset_m: f64 },
-    Hip { l_asis: PointId, r_asis: PointId, mid_psis: PointId, right: bool },
-    Shoulder { acromion: PointId, other: PointId, mid_hip: PointId },
-    Vertex { head: [PointId; 4], c7: PointId },
+    Medial {
+        lateral: PointId,
+        axis_from: PointId,
+        axis_to: PointId,
+        toward_from: PointId,
+        toward_to: PointId,
+        offset_m: f64,
+    },
+    Hip {
+        l_asis: PointId,
+        r_asis: PointId,
+        mid_psis: PointId,
+        right: bool,
+    },
+    Shoulder {
+        acromion: PointId,
+        other: PointId,
+        mid_hip: PointId,
+    },
+    Vertex {
+        head: [PointId; 4],
+        c7: PointId,
+    },
     /// `base + distance * unit(bottom - top)`.
-    Hanging { base: PointId, top: PointId, bottom: PointId, distance_m: f64 },
+    Hanging {
+        base: PointId,
+        top: PointId,
+        bottom: PointId,
+        distance_m: f64,
+    },
 }
 
 /// One segment of the model.
@@ -67,14 +98,31 @@ pub struct SegmentPoint {
 /// A point the model needs and cannot find or compute.
 #[derive(Debug, thiserror::Error)]
 pub enum LandmarkError {
-    #[error("landmark `{landmark}` not found: no column for label `{label}` in {file}{closest}; {hint}")]
-    Missing { landmark: String, label: String, file: String, closest: String, hint: String },
+    #[error(
+        "landmark `{landmark}` not found: no column for label `{label}` in {file}{closest}; {hint}"
+    )]
+    Missing {
+        landmark: String,
+        label: String,
+        file: String,
+        closest: String,
+        hint: String,
+    },
     #[error("landmark `{landmark}` needs {what}; {hint}")]
-    NeedsMeasurement { landmark: String, what: String, hint: String },
+    NeedsMeasurement {
+        landmark: String,
+        what: String,
+        hint: String,
+    },
     #[error("[virtual] `{landmark}` refers to itself through {chain}; break the cycle")]
     Cycle { landmark: String, chain: String },
     #[error("[model] endpoints: segment `{segment}` has no row `{key}` in table {table}; rows are {rows}")]
-    UnknownRow { segment: String, key: String, table: String, rows: String },
+    UnknownRow {
+        segment: String,
+        key: String,
+        table: String,
+        rows: String,
+    },
 }
 
 /// The resolved body model of one trial.
@@ -114,12 +162,19 @@ impl BodyModel {
     ) -> Result<BodyModel, LandmarkError> {
         let mut r = Resolver::new(labels, file, config, subject);
         let mut segments = Vec::new();
-        let trunk_parts = config.endpoints.get(&SegmentKind::Trunk).is_some_and(|k| k == "parts");
+        let trunk_parts = config
+            .endpoints
+            .get(&SegmentKind::Trunk)
+            .is_some_and(|k| k == "parts");
         let kinds: Vec<SegmentKind> = SegmentKind::WHOLE_BODY
             .iter()
             .flat_map(|&k| {
                 if k == SegmentKind::Trunk && trunk_parts {
-                    vec![SegmentKind::UpperTrunk, SegmentKind::MiddleTrunk, SegmentKind::LowerTrunk]
+                    vec![
+                        SegmentKind::UpperTrunk,
+                        SegmentKind::MiddleTrunk,
+                        SegmentKind::LowerTrunk,
+                    ]
                 } else {
                     vec![k]
                 }
@@ -127,13 +182,24 @@ impl BodyModel {
             .collect();
         for kind in kinds {
             let row = match config.endpoints.get(&kind).filter(|k| *k != "parts") {
-                Some(key) => table.row_by_key(kind, key).ok_or_else(|| LandmarkError::UnknownRow {
-                    segment: kind.name().to_string(),
-                    key: key.clone(),
-                    table: table.name.clone(),
-                    rows: table.rows_of(kind).map(|r| r.key()).collect::<Vec<_>>().join(", "),
-                })?,
-                None => match table.default_row(kind).or_else(|| table.rows_of(kind).next()) {
+                Some(key) => {
+                    table
+                        .row_by_key(kind, key)
+                        .ok_or_else(|| LandmarkError::UnknownRow {
+                            segment: kind.name().to_string(),
+                            key: key.clone(),
+                            table: table.name.clone(),
+                            rows: table
+                                .rows_of(kind)
+                                .map(|r| r.key())
+                                .collect::<Vec<_>>()
+                                .join(", "),
+                        })?
+                }
+                None => match table
+                    .default_row(kind)
+                    .or_else(|| table.rows_of(kind).next())
+                {
                     Some(row) => row,
                     None => {
                         return Err(LandmarkError::UnknownRow {
@@ -145,8 +211,11 @@ impl BodyModel {
                     }
                 },
             };
-            let sides: Vec<Option<Side>> =
-                if kind.is_sided() { vec![Some(Side::Left), Some(Side::Right)] } else { vec![None] };
+            let sides: Vec<Option<Side>> = if kind.is_sided() {
+                vec![Some(Side::Left), Some(Side::Right)]
+            } else {
+                vec![None]
+            };
             for side in sides {
                 let full = |stem: &str| side.map_or(stem.to_string(), |s| s.name(stem));
                 let origin_name = full(&row.origin);
@@ -157,8 +226,14 @@ impl BodyModel {
                     name: full(kind.name()),
                     kind,
                     side,
-                    origin: SegmentPoint { name: origin_name, id: origin },
-                    other: SegmentPoint { name: other_name, id: other },
+                    origin: SegmentPoint {
+                        name: origin_name,
+                        id: origin,
+                    },
+                    other: SegmentPoint {
+                        name: other_name,
+                        id: other,
+                    },
                     mass_kg: row.mass_fraction * subject.mass_kg,
                     com_fraction: row.com_fraction,
                     row_key: row.key(),
@@ -175,8 +250,9 @@ impl BodyModel {
             .iter()
             .filter_map(|s| {
                 let asis = r.label_index(&s.name("asis"))?;
-                let ankle =
-                    r.label_index(&s.name("ankle_med")).or_else(|| r.label_index(&s.name("ankle_lat")))?;
+                let ankle = r
+                    .label_index(&s.name("ankle_med"))
+                    .or_else(|| r.label_index(&s.name("ankle_lat")))?;
                 Some((asis, ankle))
             })
             .collect();
@@ -185,7 +261,13 @@ impl BodyModel {
         let mut markers_used: Vec<usize> = r
             .defs
             .iter()
-            .filter_map(|d| if let Def::Marker(i) = d { Some(*i) } else { None })
+            .filter_map(|d| {
+                if let Def::Marker(i) = d {
+                    Some(*i)
+                } else {
+                    None
+                }
+            })
             .collect();
         markers_used.sort_unstable();
         markers_used.dedup();
@@ -206,7 +288,10 @@ impl BodyModel {
 
     /// A point resolved at build time (a segment endpoint or one of the `optional` names).
     pub fn point(&self, name: &str) -> Option<PointId> {
-        self.optional.get(name).copied().or_else(|| self.point_names.iter().position(|n| n == name))
+        self.optional
+            .get(name)
+            .copied()
+            .or_else(|| self.point_names.iter().position(|n| n == name))
     }
 
     /// Whether the hip regressions need a measured leg length (none was given).
@@ -243,53 +328,81 @@ impl BodyModel {
                         None
                     }
                 }
-                Def::Along { from, to, fraction } => {
-                    get(*from).zip(get(*to)).map(|(a, b)| a + (b - a) * *fraction)
+                Def::Along { from, to, fraction } => get(*from)
+                    .zip(get(*to))
+                    .map(|(a, b)| a + (b - a) * *fraction),
+                Def::Offset { frame, offset_m } => {
+                    match (get(frame[0]), get(frame[1]), get(frame[2])) {
+                        (Some(o), Some(a), Some(b)) => offset_in_frame(o, a, b, *offset_m),
+                        _ => None,
+                    }
                 }
-                Def::Offset { frame, offset_m } => match (get(frame[0]), get(frame[1]), get(frame[2])) {
-                    (Some(o), Some(a), Some(b)) => offset_in_frame(o, a, b, *offset_m),
-                    _ => None,
-                },
                 Def::Midpoint(a, b) => get(*a).zip(get(*b)).map(|(a, b)| (a + b) / 2.0),
-                Def::Medial { lateral, axis_from, axis_to, toward_from, toward_to, offset_m } => {
-                    match (get(*lateral), get(*axis_from), get(*axis_to), get(*toward_from), get(*toward_to)) {
+                Def::Medial {
+                    lateral,
+                    axis_from,
+                    axis_to,
+                    toward_from,
+                    toward_to,
+                    offset_m,
+                } => {
+                    match (
+                        get(*lateral),
+                        get(*axis_from),
+                        get(*axis_to),
+                        get(*toward_from),
+                        get(*toward_to),
+                    ) {
                         (Some(l), Some(f), Some(t), Some(tf), Some(tt)) => {
                             joints::medial_offset(l, f, t, tt - tf, *offset_m)
                         }
                         _ => None,
                     }
                 }
-                Def::Hip { l_asis, r_asis, mid_psis, right } => {
-                    match (get(*l_asis), get(*r_asis), get(*mid_psis)) {
-                        (Some(l), Some(r), Some(p)) => PelvisFrame::new(l, r, p).and_then(|f| {
-                            joints::hip_jc(self.hip_method(), &f, leg_length, *right)
-                        }),
-                        _ => None,
-                    }
-                    .filter(|p| p.iter().all(|c| c.is_finite()))
+                Def::Hip {
+                    l_asis,
+                    r_asis,
+                    mid_psis,
+                    right,
+                } => match (get(*l_asis), get(*r_asis), get(*mid_psis)) {
+                    (Some(l), Some(r), Some(p)) => PelvisFrame::new(l, r, p)
+                        .and_then(|f| joints::hip_jc(self.hip_method(), &f, leg_length, *right)),
+                    _ => None,
                 }
-                Def::Shoulder { acromion, other, mid_hip } => {
-                    match (get(*acromion), get(*other), get(*mid_hip)) {
-                        (Some(a), Some(o), Some(h)) => (h - (a + o) / 2.0)
-                            .try_normalize(1e-9)
-                            .map(|down| joints::shoulder_jc(a, o, down)),
-                        _ => None,
-                    }
-                }
-                Def::Vertex { head, c7 } => match (get(head[0]), get(head[1]), get(head[2]), get(head[3]), get(*c7)) {
+                .filter(|p| p.iter().all(|c| c.is_finite())),
+                Def::Shoulder {
+                    acromion,
+                    other,
+                    mid_hip,
+                } => match (get(*acromion), get(*other), get(*mid_hip)) {
+                    (Some(a), Some(o), Some(h)) => (h - (a + o) / 2.0)
+                        .try_normalize(1e-9)
+                        .map(|down| joints::shoulder_jc(a, o, down)),
+                    _ => None,
+                },
+                Def::Vertex { head, c7 } => match (
+                    get(head[0]),
+                    get(head[1]),
+                    get(head[2]),
+                    get(head[3]),
+                    get(*c7),
+                ) {
                     (Some(a), Some(b), Some(c), Some(d), Some(c7)) => {
                         joints::vertex([a, b, c, d], c7, self.vertex_height_m())
                     }
                     _ => None,
                 },
-                Def::Hanging { base, top, bottom, distance_m } => {
-                    match (get(*base), get(*top), get(*bottom)) {
-                        (Some(b), Some(t), Some(m)) => {
-                            (m - t).try_normalize(1e-9).map(|down| b + down * *distance_m)
-                        }
-                        _ => None,
-                    }
-                }
+                Def::Hanging {
+                    base,
+                    top,
+                    bottom,
+                    distance_m,
+                } => match (get(*base), get(*top), get(*bottom)) {
+                    (Some(b), Some(t), Some(m)) => (m - t)
+                        .try_normalize(1e-9)
+                        .map(|down| b + down * *distance_m),
+                    _ => None,
+                },
             };
             out.push(value);
         }
@@ -363,7 +476,11 @@ struct Resolver<'a> {
 impl<'a> Resolver<'a> {
     fn new(labels: &'a [String], file: &'a str, config: &'a Config, subject: &'a Subject) -> Self {
         Resolver {
-            labels: labels.iter().enumerate().map(|(i, l)| (l.as_str(), i)).collect(),
+            labels: labels
+                .iter()
+                .enumerate()
+                .map(|(i, l)| (l.as_str(), i))
+                .collect(),
             all_labels: labels,
             file,
             config,
@@ -421,7 +538,10 @@ impl<'a> Resolver<'a> {
         if self.visiting.iter().any(|v| v == name) {
             let mut chain = self.visiting.clone();
             chain.push(name.to_string());
-            return Err(LandmarkError::Cycle { landmark: name.to_string(), chain: chain.join(" -> ") });
+            return Err(LandmarkError::Cycle {
+                landmark: name.to_string(),
+                chain: chain.join(" -> "),
+            });
         }
         self.visiting.push(name.to_string());
         let result = self.resolve_new(name);
@@ -434,14 +554,23 @@ impl<'a> Resolver<'a> {
         if let Some(def) = self.config.virtual_landmarks.get(name).cloned() {
             let def = match def {
                 VirtualDef::Mean(names) => {
-                    let ids = names.iter().map(|n| self.resolve(n)).collect::<Result<Vec<_>, _>>()?;
+                    let ids = names
+                        .iter()
+                        .map(|n| self.resolve(n))
+                        .collect::<Result<Vec<_>, _>>()?;
                     Def::Mean(ids)
                 }
-                VirtualDef::Along { from, to, fraction } => {
-                    Def::Along { from: self.resolve(&from)?, to: self.resolve(&to)?, fraction }
-                }
+                VirtualDef::Along { from, to, fraction } => Def::Along {
+                    from: self.resolve(&from)?,
+                    to: self.resolve(&to)?,
+                    fraction,
+                },
                 VirtualDef::Offset { frame, offset_m } => Def::Offset {
-                    frame: [self.resolve(&frame[0])?, self.resolve(&frame[1])?, self.resolve(&frame[2])?],
+                    frame: [
+                        self.resolve(&frame[0])?,
+                        self.resolve(&frame[1])?,
+                        self.resolve(&frame[2])?,
+                    ],
                     offset_m,
                 },
             };
@@ -468,7 +597,14 @@ impl<'a> Resolver<'a> {
                 let acromion = self.resolve(&side.name("acromion"))?;
                 let other = self.resolve(&other(side).name("acromion"))?;
                 let mid_hip = self.resolve("mid_hip")?;
-                Ok(self.push(name, Def::Shoulder { acromion, other, mid_hip }))
+                Ok(self.push(
+                    name,
+                    Def::Shoulder {
+                        acromion,
+                        other,
+                        mid_hip,
+                    },
+                ))
             }
             (Some(side), "hand" | "finger_tip") => match self.hanging(name, side, stem)? {
                 Some(id) => Ok(id),
@@ -493,8 +629,15 @@ impl<'a> Resolver<'a> {
                     let s = self.resolve("sacrum")?;
                     Ok(self.push(name, Def::Mean(vec![s])))
                 } else {
-                    let which = if self.label_index("l_psis").is_none() { "l_psis" } else { "r_psis" };
-                    Err(self.missing(which, "the pelvis needs both PSIS markers or one `sacrum` marker"))
+                    let which = if self.label_index("l_psis").is_none() {
+                        "l_psis"
+                    } else {
+                        "r_psis"
+                    };
+                    Err(self.missing(
+                        which,
+                        "the pelvis needs both PSIS markers or one `sacrum` marker",
+                    ))
                 }
             }
             (None, "head_top") => {
@@ -522,7 +665,10 @@ impl<'a> Resolver<'a> {
 
     fn hip_jc(&mut self, name: &str, side: Side) -> Result<PointId, LandmarkError> {
         if self.config.hip == HipMethod::Given {
-            return Err(self.missing(name, "[model] hip = \"given\" needs hip JC columns; or choose a regression"));
+            return Err(self.missing(
+                name,
+                "[model] hip = \"given\" needs hip JC columns; or choose a regression",
+            ));
         }
         let l_asis = self.resolve("l_asis")?;
         let r_asis = self.resolve("r_asis")?;
@@ -538,18 +684,48 @@ impl<'a> Resolver<'a> {
                 hint: "give leg_length_m in the subject, or use hip = \"bell-1990\"".to_string(),
             });
         }
-        Ok(self.push(name, Def::Hip { l_asis, r_asis, mid_psis, right: side == Side::Right }))
+        Ok(self.push(
+            name,
+            Def::Hip {
+                l_asis,
+                r_asis,
+                mid_psis,
+                right: side == Side::Right,
+            },
+        ))
     }
 
-    fn epicondyle_jc(&mut self, name: &str, side: Side, joint: Joint) -> Result<PointId, LandmarkError> {
+    fn epicondyle_jc(
+        &mut self,
+        name: &str,
+        side: Side,
+        joint: Joint,
+    ) -> Result<PointId, LandmarkError> {
         let (lat, med, width, width_key) = match joint {
-            Joint::Knee => ("knee_lat", "knee_med", self.subject.knee_width_m, "knee_width_m"),
-            Joint::Ankle => ("ankle_lat", "ankle_med", self.subject.ankle_width_m, "ankle_width_m"),
-            Joint::Elbow => ("elbow_lat", "elbow_med", self.subject.elbow_width_m, "elbow_width_m"),
+            Joint::Knee => (
+                "knee_lat",
+                "knee_med",
+                self.subject.knee_width_m,
+                "knee_width_m",
+            ),
+            Joint::Ankle => (
+                "ankle_lat",
+                "ankle_med",
+                self.subject.ankle_width_m,
+                "ankle_width_m",
+            ),
+            Joint::Elbow => (
+                "elbow_lat",
+                "elbow_med",
+                self.subject.elbow_width_m,
+                "elbow_width_m",
+            ),
         };
         let lat_name = side.name(lat);
         let med_name = side.name(med);
-        let has = |r: &Self, n: &str| r.label_index(n).is_some() || r.config.virtual_landmarks.contains_key(n);
+        let has = |r: &Self, n: &str| {
+            r.label_index(n).is_some() || r.config.virtual_landmarks.contains_key(n)
+        };
         if has(self, &lat_name) && has(self, &med_name) {
             let a = self.resolve(&lat_name)?;
             let b = self.resolve(&med_name)?;
@@ -561,13 +737,15 @@ impl<'a> Resolver<'a> {
             }
         }
         if !has(self, &lat_name) {
-            return Err(self.missing(&lat_name, &format!("the {name} needs it (with {med_name}, or with {width_key} in the subject)")));
+            return Err(self.missing(&lat_name, &format!("map it in [landmarks] or define it in [virtual]; the {name} needs it (with {med_name}, or with {width_key} in the subject)")));
         }
         let Some(width) = width else {
             return Err(LandmarkError::NeedsMeasurement {
                 landmark: name.to_string(),
                 what: format!("`{med_name}` or the joint width"),
-                hint: format!("map {med_name}, or give {width_key} (and marker_radius_m) in the subject"),
+                hint: format!(
+                    "map {med_name}, or give {width_key} (and marker_radius_m) in the subject"
+                ),
             });
         };
         let offset_m = width / 2.0 + self.subject.marker_radius_m.unwrap_or(0.0);
@@ -584,7 +762,14 @@ impl<'a> Resolver<'a> {
         });
         Ok(self.push(
             name,
-            Def::Medial { lateral, axis_from, axis_to: lateral, toward_from, toward_to, offset_m },
+            Def::Medial {
+                lateral,
+                axis_from,
+                axis_to: lateral,
+                toward_from,
+                toward_to,
+                offset_m,
+            },
         ))
     }
 
@@ -611,13 +796,26 @@ impl<'a> Resolver<'a> {
     }
 
     fn arm_has_markers(&self, side: Side) -> bool {
-        ["elbow_lat", "elbow_med", "wrist_rad", "wrist_uln", "wrist", "hand", "finger_tip"]
-            .iter()
-            .any(|s| self.label_index(&side.name(s)).is_some())
+        [
+            "elbow_lat",
+            "elbow_med",
+            "wrist_rad",
+            "wrist_uln",
+            "wrist",
+            "hand",
+            "finger_tip",
+        ]
+        .iter()
+        .any(|s| self.label_index(&side.name(s)).is_some())
     }
 
     /// Hanging-arm point `stem` of one side, when `arms = "hanging"` and the arm is unmarked.
-    fn hanging(&mut self, name: &str, side: Side, stem: &str) -> Result<Option<PointId>, LandmarkError> {
+    fn hanging(
+        &mut self,
+        name: &str,
+        side: Side,
+        stem: &str,
+    ) -> Result<Option<PointId>, LandmarkError> {
         if self.config.arms != ArmsMode::Hanging || self.arm_has_markers(side) {
             return Ok(None);
         }
@@ -638,7 +836,15 @@ impl<'a> Resolver<'a> {
                 what: format!("{} arm not marked: hanging below the shoulder along the trunk axis (arms = \"hanging\")", side.word()),
             });
         }
-        Ok(Some(self.push(name, Def::Hanging { base, top, bottom, distance_m: distance })))
+        Ok(Some(self.push(
+            name,
+            Def::Hanging {
+                base,
+                top,
+                bottom,
+                distance_m: distance,
+            },
+        )))
     }
 }
 
@@ -661,11 +867,25 @@ pub fn closest_labels(target: &str, labels: &[String], n: usize) -> Vec<String> 
     let mut scored: Vec<(usize, usize, &String)> = labels
         .iter()
         .enumerate()
-        .map(|(i, l)| (edit_distance(&target.to_ascii_lowercase(), &l.to_ascii_lowercase()), i, l))
+        .map(|(i, l)| {
+            let (t, c) = (target.to_ascii_lowercase(), l.to_ascii_lowercase());
+            // A label that contains the name (or is contained in it) is the best guess.
+            let d = if c.contains(&t) || t.contains(&c) {
+                0
+            } else {
+                edit_distance(&t, &c)
+            };
+            (d, i, l)
+        })
         .collect();
     scored.sort();
     let limit = target.len().max(3);
-    scored.into_iter().filter(|(d, _, _)| *d < limit).take(n).map(|(_, _, l)| l.clone()).collect()
+    scored
+        .into_iter()
+        .filter(|(d, _, _)| *d < limit)
+        .take(n)
+        .map(|(_, _, l)| l.clone())
+        .collect()
 }
 
 /// Levenshtein distance.
@@ -675,7 +895,9 @@ fn edit_distance(a: &str, b: &str) -> usize {
     for (i, ca) in a.chars().enumerate() {
         let mut cur = vec![i + 1; b.len() + 1];
         for (j, cb) in b.iter().enumerate() {
-            cur[j + 1] = (prev[j] + usize::from(ca != *cb)).min(prev[j + 1] + 1).min(cur[j] + 1);
+            cur[j + 1] = (prev[j] + usize::from(ca != *cb))
+                .min(prev[j + 1] + 1)
+                .min(cur[j] + 1);
         }
         prev = cur;
     }

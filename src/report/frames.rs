@@ -77,7 +77,10 @@ pub fn write_frames(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
         opt3(&mut w, r.com[f].as_ref())?;
         let v = r.velocity[f].as_ref();
         opt3(&mut w, v)?;
-        opt(&mut w, v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()))?;
+        opt(
+            &mut w,
+            v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()),
+        )?;
         opt3(&mut w, r.acceleration[f].as_ref())?;
         opt3(&mut w, r.xcom[f].as_ref())?;
         opt(&mut w, at(&s.bos_area_m2, f))?;

@@ -21,9 +21,15 @@ pub fn write_atomic(
     path: &Path,
     write: impl FnOnce(&mut dyn Write) -> std::io::Result<()>,
 ) -> std::io::Result<()> {
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
     std::fs::create_dir_all(dir)?;
-    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
     let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
     let result = (|| {
         let file = std::fs::File::create(&tmp)?;
@@ -48,32 +54,6 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
         s.push_str(&format!("{b:02x}"));
     }
     s
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// FIPS 180-2 test vector: SHA-256("abc").
-    #[test]
-    fn sha256_of_abc() {
-        assert_eq!(
-            sha256_hex(b"abc"),
-            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
-        );
-    }
-
-    #[test]
-    fn a_failed_write_leaves_no_file() {
-        let dir = tempfile::tempdir().unwrap();
-        let path = dir.path().join("out.csv");
-        let r = write_atomic(&path, |w| {
-            w.write_all(b"partial")?;
-            Err(std::io::Error::other("stop"))
-        });
-        assert!(r.is_err());
-        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
-    }
 }
 
 /// Writes every output of a trial into `dir`, each file atomically; `summary.json` last, so its
@@ -104,4 +84,30 @@ pub fn write_outputs(
     })
     .map_err(err(&json))?;
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// FIPS 180-2 test vector: SHA-256("abc").
+    #[test]
+    fn sha256_of_abc() {
+        assert_eq!(
+            sha256_hex(b"abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+
+    #[test]
+    fn a_failed_write_leaves_no_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("out.csv");
+        let r = write_atomic(&path, |w| {
+            w.write_all(b"partial")?;
+            Err(std::io::Error::other("stop"))
+        });
+        assert!(r.is_err());
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
+    }
 }

@@ -105,7 +105,12 @@ fn norm(v: &[f64; 3]) -> f64 {
 
 impl Summary {
     /// Computes the figures of a result.
-    pub fn new(r: &TrialResult, subject: &Subject, input_sha256: Option<String>, config_sha256: String) -> Summary {
+    pub fn new(
+        r: &TrialResult,
+        subject: &Subject,
+        input_sha256: Option<String>,
+        config_sha256: String,
+    ) -> Summary {
         let up = r.up_axis;
         let valid: Vec<&[f64; 3]> = r.com.iter().flatten().collect();
         let heights = || valid.iter().map(|c| up.height(c));
@@ -120,7 +125,13 @@ impl Summary {
         let path_length_m = r
             .com
             .windows(2)
-            .filter_map(|w| Some(norm(&[w[1]?[0] - w[0]?[0], w[1]?[1] - w[0]?[1], w[1]?[2] - w[0]?[2]])))
+            .filter_map(|w| {
+                Some(norm(&[
+                    w[1]?[0] - w[0]?[0],
+                    w[1]?[1] - w[0]?[1],
+                    w[1]?[2] - w[0]?[2],
+                ]))
+            })
             .sum();
         let s = &r.support;
         let ml_excursion_m = s.progression.and_then(|p| {
@@ -139,7 +150,10 @@ impl Summary {
             min_m: (!valid.is_empty()).then_some(lo),
             max_m: (!valid.is_empty()).then_some(hi),
             path_length_m,
-            vertical_excursion_m: heights().reduce(f64::max).zip(heights().reduce(f64::min)).map(|(a, b)| a - b),
+            vertical_excursion_m: heights()
+                .reduce(f64::max)
+                .zip(heights().reduce(f64::min))
+                .map(|(a, b)| a - b),
             ml_excursion_m,
             mean_speed_m_s: mean(speeds()),
             max_speed_m_s: speeds().reduce(f64::max),
@@ -167,8 +181,12 @@ impl Summary {
                     step_length_m: mean(of().filter_map(|st| st.step_length_m)),
                     step_width_m: mean(of().filter_map(|st| st.step_width_m)),
                     mos_ap_heel_strike_m: mean(of().filter_map(|st| st.mos_ap_heel_strike_m)),
-                    min_mos_ml_single_stance_m: mean(of().filter_map(|st| st.min_mos_ml_single_stance_m)),
-                    com_vertical_excursion_m: mean(of().filter_map(|st| st.com_vertical_excursion_m)),
+                    min_mos_ml_single_stance_m: mean(
+                        of().filter_map(|st| st.min_mos_ml_single_stance_m),
+                    ),
+                    com_vertical_excursion_m: mean(
+                        of().filter_map(|st| st.com_vertical_excursion_m),
+                    ),
                 }
             })
             .collect();
@@ -187,7 +205,12 @@ impl Summary {
         Summary {
             trial: r.name.clone(),
             frames: r.n_frames(),
-            duration_s: r.times_s.last().zip(r.times_s.first()).map_or(0.0, |(b, a)| b - a) + dt,
+            duration_s: r
+                .times_s
+                .last()
+                .zip(r.times_s.first())
+                .map_or(0.0, |(b, a)| b - a)
+                + dt,
             rate_hz: r.rate_hz,
             valid_fraction: r.valid_fraction(),
             subject: subject.clone(),

@@ -62,7 +62,10 @@ pub struct FootFrames {
 impl FootFrames {
     /// Looks the foot points up in the model (absent points stay empty).
     pub fn new(body: &BodyModel, n_frames: usize) -> FootFrames {
-        let mut f = FootFrames { sacrum_id: body.point("mid_psis"), ..Default::default() };
+        let mut f = FootFrames {
+            sacrum_id: body.point("mid_psis"),
+            ..Default::default()
+        };
         for (s, prefix) in ["l_", "r_"].iter().enumerate() {
             for (k, stem) in FOOT_STEMS.iter().enumerate() {
                 f.ids[s][k] = body.point(&format!("{prefix}{stem}"));
@@ -76,7 +79,10 @@ impl FootFrames {
 
     /// Appends one frame of the body model's evaluation.
     pub fn push(&mut self, points: &[Option<Vector3<f64>>]) {
-        let get = |id: Option<PointId>| id.and_then(|i| points.get(i).copied().flatten()).map(|p| [p.x, p.y, p.z]);
+        let get = |id: Option<PointId>| {
+            id.and_then(|i| points.get(i).copied().flatten())
+                .map(|p| [p.x, p.y, p.z])
+        };
         for s in 0..2 {
             for k in 0..6 {
                 if self.ids[s][k].is_some() {
@@ -144,13 +150,20 @@ pub fn floor_m(foot: &FootFrames, up: UpAxis, config: &SupportConfig) -> (f64, O
     if let Some(f) = config.floor_m {
         return (f, None);
     }
-    let heights = foot.points.iter().flatten().flatten().flatten().map(|p| up.height(p));
+    let heights = foot
+        .points
+        .iter()
+        .flatten()
+        .flatten()
+        .flatten()
+        .map(|p| up.height(p));
     match floor_level(heights, FLOOR_PERCENTILE) {
         Some(f) => (f, None),
         None => (
             0.0,
             Some(Warning::Approximation {
-                what: "no foot markers: floor taken at the lab origin, no base of support".to_string(),
+                what: "no foot markers: floor taken at the lab origin, no base of support"
+                    .to_string(),
             }),
         ),
     }
@@ -181,14 +194,16 @@ pub fn analyse(
     config: &SupportConfig,
 ) -> SupportSeries {
     let n = com.len();
-    let mut out = SupportSeries { floor_m: floor, ..Default::default() };
+    let mut out = SupportSeries {
+        floor_m: floor,
+        ..Default::default()
+    };
     let t = thresholds(config);
     let dt = 1.0 / rate_hz;
     for side in 0..2 {
         let mut height = vec![None; n];
         let mut speed: Vec<Option<f64>> = vec![None; n];
-        for k in 0..FOOT_STEMS.len() {
-            let series = &foot.points[side][k];
+        for (stem, series) in FOOT_STEMS.iter().zip(&foot.points[side]) {
             if series.is_empty() {
                 continue;
             }
@@ -199,7 +214,7 @@ pub fn analyse(
                 }
             }
             // Heel and metatarsal heads decide how slow the foot is (toe and malleolus do not).
-            if matches!(FOOT_STEMS[k], "heel" | "mt1" | "mt2" | "mt5") {
+            if matches!(*stem, "heel" | "mt1" | "mt2" | "mt5") {
                 let (v, _) = derivative::of_series(series, dt);
                 for (f, v) in v.iter().enumerate() {
                     if let Some(v) = v {
@@ -226,9 +241,14 @@ pub fn analyse(
         for side in 0..2 {
             if now[side] {
                 let before = pts.len();
-                pts.extend((0..FOOT_STEMS.len()).filter_map(|k| foot.at(side, k, f)).map(|p| up.horizontal(&p)));
+                pts.extend(
+                    (0..FOOT_STEMS.len())
+                        .filter_map(|k| foot.at(side, k, f))
+                        .map(|p| up.horizontal(&p)),
+                );
                 if !previous[side] {
-                    out.footprints.push((side, f, convex_hull(&pts[before..]).vertices()));
+                    out.footprints
+                        .push((side, f, convex_hull(&pts[before..]).vertices()));
                 }
             }
         }
@@ -242,10 +262,12 @@ pub fn analyse(
         previous = now;
         out.bos_area_m2.push(hull.area_m2());
         let c = com.get(f).copied().flatten().map(|c| up.horizontal(&c));
-        out.bos_margin_m.push(c.and_then(|c| signed_distance(&hull, c)));
+        out.bos_margin_m
+            .push(c.and_then(|c| signed_distance(&hull, c)));
         let xi = xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
         out.mos_m.push(xi.and_then(|x| signed_distance(&hull, x)));
-        let along = |d: Option<[f64; 2]>| xi.zip(d).and_then(|(x, d)| directional_margin(&hull, x, d));
+        let along =
+            |d: Option<[f64; 2]>| xi.zip(d).and_then(|(x, d)| directional_margin(&hull, x, d));
         out.mos_ap_m.push(along(out.progression).map(|m| m.ahead_m));
         // ML: in single stance the margin to the stance foot's lateral edge (outward along the
         // stance side, Hof 2005 / methods.md 2); in double stance the nearer lateral edge.
@@ -296,7 +318,11 @@ fn progression(foot: &FootFrames, velocity: &[Option<[f64; 3]>], up: UpAxis) -> 
     }
     let mut dir = [0.0, 0.0];
     for side in 0..2 {
-        let front = if foot.points[side][TOE].is_empty() { MT2 } else { TOE };
+        let front = if foot.points[side][TOE].is_empty() {
+            MT2
+        } else {
+            TOE
+        };
         for f in 0..foot.points[side][HEEL].len() {
             if let (Some(h), Some(t)) = (foot.at(side, HEEL, f), foot.at(side, front, f)) {
                 let (h, t) = (up.horizontal(&h), up.horizontal(&t));
@@ -337,7 +363,11 @@ fn gait(
             .collect()
     };
     for side in 0..2 {
-        let toe = if foot.points[side][TOE].is_empty() { MT2 } else { TOE };
+        let toe = if foot.points[side][TOE].is_empty() {
+            MT2
+        } else {
+            TOE
+        };
         if foot.points[side][HEEL].is_empty() || foot.points[side][toe].is_empty() {
             return;
         }
@@ -352,17 +382,33 @@ fn gait(
         for (i, &f) in hs.iter().enumerate() {
             let heel = foot.at(side, HEEL, f).map(|p| up.horizontal(&p));
             let other_heel = foot.at(other, HEEL, f).map(|p| up.horizontal(&p));
-            let d = heel.zip(other_heel).map(|(a, b)| [a[0] - b[0], a[1] - b[1]]);
+            let d = heel
+                .zip(other_heel)
+                .map(|(a, b)| [a[0] - b[0], a[1] - b[1]]);
             let toe_off = out.events[side].toe_offs.iter().copied().find(|&t| t > f);
             // Single stance on `side`: from the other foot's toe-off to its next heel strike.
             let other_to = out.events[other].toe_offs.iter().copied().find(|&t| t > f);
-            let other_hs = other_to.and_then(|t0| out.events[other].heel_strikes.iter().copied().find(|&h| h > t0));
+            let other_hs = other_to.and_then(|t0| {
+                out.events[other]
+                    .heel_strikes
+                    .iter()
+                    .copied()
+                    .find(|&h| h > t0)
+            });
             let min_ml = match (other_to, other_hs) {
-                (Some(a), Some(b)) => out.mos_ml_m[a..b.min(n)].iter().flatten().copied().reduce(f64::min),
+                (Some(a), Some(b)) => out.mos_ml_m[a..b.min(n)]
+                    .iter()
+                    .flatten()
+                    .copied()
+                    .reduce(f64::min),
                 _ => None,
             };
             let excursion = hs.get(i + 1).and_then(|&next| {
-                let heights: Vec<f64> = com[f..next.min(n)].iter().flatten().map(|c| up.height(c)).collect();
+                let heights: Vec<f64> = com[f..next.min(n)]
+                    .iter()
+                    .flatten()
+                    .map(|c| up.height(c))
+                    .collect();
                 if heights.len() + 1 < next - f {
                     return None;
                 }

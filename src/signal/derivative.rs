@@ -1,0 +1,261 @@
+//! Derivatives (DESIGN.md 6.3): velocity and acceleration of a uniformly sampled series by
+//! finite differences.
+//!
+//! Inputs: samples `x_i` (usually metres) at a frame interval `dt_s` (seconds). Outputs: first
+//! derivative (unit/s, e.g. m/s) and second derivative (unit/s^2, e.g. m/s^2), one per sample.
+//!
+//! Interior samples, central differences (standard; shared/reference/methods.md 4):
+//!
+//! ```text
+//! v_i = (x_{i+1} - x_{i-1}) / (2 dt)
+//! a_i = (x_{i+1} - 2 x_i + x_{i-1}) / dt^2
+//! ```
+//!
+//! For a sinusoid of angular frequency `w` their gains are `sin(w dt) / (w dt)` and
+//! `(2 - 2 cos(w dt)) / (w dt)^2` (methods.md 4): 0.97648 and 0.98821 at 6 Hz, 100 Hz.
+//!
+//! End samples, one-sided formulas of the same (second) order of accuracy (the standard
+//! finite-difference weights, e.g. Fornberg 1988, Math. Comp. 51, from memory):
+//!
+//! ```text
+//! v_0     = (-3 x_0 + 4 x_1 - x_2) / (2 dt)
+//! v_{n-1} = ( 3 x_{n-1} - 4 x_{n-2} + x_{n-3}) / (2 dt)
+//! a_0     = ( 2 x_0 - 5 x_1 + 4 x_2 - x_3) / dt^2                 (4 points)
+//! a_{n-1} = ( 2 x_{n-1} - 5 x_{n-2} + 4 x_{n-3} - x_{n-4}) / dt^2
+//! ```
+//!
+//! All of these are exact on quadratics (and the 4-point end formula on cubics).
+//!
+//! Short inputs, never a panic: an empty input gives an empty output. First derivative: 1
+//! sample gives `[NaN]`; 2 samples give the forward difference `(x_1 - x_0) / dt` twice.
+//! Second derivative: 1 or 2 samples give NaN each; 3 samples give the central value
+//! `(x_0 - 2 x_1 + x_2) / dt^2` three times. [`of_series`] turns these cases into `None`.
+
+/// One optional 3D sample per frame (`None` where unknown).
+pub type PointSeries = Vec<Option<[f64; 3]>>;
+
+/// First derivative of `x` sampled every `dt_s` seconds (module doc).
+///
+/// ```
+/// let v = gravline::signal::derivative::first(&[0.0, 1.0, 4.0, 9.0], 1.0); // x = t^2
+/// assert_eq!(v, vec![0.0, 2.0, 4.0, 6.0]);
+/// ```
+pub fn first(x: &[f64], dt_s: f64) -> Vec<f64> {
+    let n = x.len();
+    match n {
+        0 => Vec::new(),
+        1 => vec![f64::NAN],
+        2 => vec![(x[1] - x[0]) / dt_s; 2],
+        _ => {
+            let mut v = Vec::with_capacity(n);
+            v.push((-3.0 * x[0] + 4.0 * x[1] - x[2]) / (2.0 * dt_s));
+            v.extend(x.windows(3).map(|w| (w[2] - w[0]) / (2.0 * dt_s)));
+            v.push((3.0 * x[n - 1] - 4.0 * x[n - 2] + x[n - 3]) / (2.0 * dt_s));
+            v
+        }
+    }
+}
+
+/// Second derivative of `x` sampled every `dt_s` seconds (module doc).
+///
+/// ```
+/// let a = gravline::signal::derivative::second(&[0.0, 1.0, 4.0, 9.0], 1.0); // x = t^2
+/// assert_eq!(a, vec![2.0; 4]);
+/// ```
+pub fn second(x: &[f64], dt_s: f64) -> Vec<f64> {
+    let n = x.len();
+    let dt2 = dt_s * dt_s;
+    match n {
+        0 => Vec::new(),
+        1 | 2 => vec![f64::NAN; n],
+        3 => vec![(x[0] - 2.0 * x[1] + x[2]) / dt2; 3],
+        _ => {
+            let mut a = Vec::with_capacity(n);
+            a.push((2.0 * x[0] - 5.0 * x[1] + 4.0 * x[2] - x[3]) / dt2);
+            a.extend(x.windows(3).map(|w| (w[2] - 2.0 * w[1] + w[0]) / dt2));
+            a.push((2.0 * x[n - 1] - 5.0 * x[n - 2] + 4.0 * x[n - 3] - x[n - 4]) / dt2);
+            a
+        }
+    }
+}
+
+/// A 3D position series as velocity and acceleration series: each run of consecutive `Some`
+/// samples is differentiated on its own, never across a gap. A run of 1 frame gives `None` for
+/// both; a run of 2 frames gives a velocity (forward difference) and no acceleration.
+pub fn of_series(series: &[Option<[f64; 3]>], dt_s: f64) -> (PointSeries, PointSeries) {
+    let n = series.len();
+    let mut vel = vec![None; n];
+    let mut acc = vec![None; n];
+    let mut start = 0;
+    while start < n {
+        if series[start].is_none() {
+            start += 1;
+            continue;
+        }
+        let len = series[start..].iter().take_while(|s| s.is_some()).count();
+        let run: Vec<[f64; 3]> = series[start..start + len]
+            .iter()
+            .flatten()
+            .copied()
+            .collect();
+        if len >= 2 {
+            write_derivative(&mut vel[start..start + len], &run, |c| first(c, dt_s));
+        }
+        if len >= 3 {
+            write_derivative(&mut acc[start..start + len], &run, |c| second(c, dt_s));
+        }
+        start += len;
+    }
+    (vel, acc)
+}
+
+/// Differentiates each coordinate of `run` with `diff` into `out` (same length).
+fn write_derivative(
+    out: &mut [Option<[f64; 3]>],
+    run: &[[f64; 3]],
+    diff: impl Fn(&[f64]) -> Vec<f64>,
+) {
+    let mut xyz = vec![[0.0; 3]; run.len()];
+    for d in 0..3 {
+        let coord: Vec<f64> = run.iter().map(|p| p[d]).collect();
+        for (slot, v) in xyz.iter_mut().zip(diff(&coord)) {
+            slot[d] = v;
+        }
+    }
+    for (slot, p) in out.iter_mut().zip(xyz) {
+        *slot = Some(p);
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_abs_diff_eq;
+    use std::f64::consts::PI;
+
+    /// Interior gains measured on a sampled sine: the central differences of `sin(w t)` are
+    /// exactly `G1 w cos(w t)` and `-G2 w^2 sin(w t)`.
+    fn measured_gains(f_hz: f64, fs_hz: f64) -> (f64, f64) {
+        let w = 2.0 * PI * f_hz;
+        let dt = 1.0 / fs_hz;
+        let t: Vec<f64> = (0..400).map(|i| i as f64 * dt).collect();
+        let x: Vec<f64> = t.iter().map(|&ti| (w * ti).sin()).collect();
+        let v = first(&x, dt);
+        let a = second(&x, dt);
+        // Least-squares gain over the interior: sum(d * ref) / sum(ref^2).
+        let gain = |d: &[f64], reference: &dyn Fn(f64) -> f64| {
+            let (mut num, mut den) = (0.0, 0.0);
+            for i in 1..t.len() - 1 {
+                let r = reference(t[i]);
+                num += d[i] * r;
+                den += r * r;
+            }
+            num / den
+        };
+        let g1 = gain(&v, &|ti| w * (w * ti).cos());
+        let g2 = gain(&a, &|ti| -w * w * (w * ti).sin());
+        // The gain is exact at every interior sample, not only on average.
+        for i in 1..t.len() - 1 {
+            assert_abs_diff_eq!(v[i], g1 * w * (w * t[i]).cos(), epsilon = 1e-9 * w);
+            assert_abs_diff_eq!(a[i], -g2 * w * w * (w * t[i]).sin(), epsilon = 1e-9 * w * w);
+        }
+        (g1, g2)
+    }
+
+    #[test]
+    fn central_difference_gains_match_methods_table() {
+        // methods.md 4, check table (D): (f_s, f, 1st-derivative gain, 2nd-derivative gain).
+        let table = [
+            (100.0, 2.0, 0.99737, 0.99868),
+            (100.0, 6.0, 0.97648, 0.98821),
+            (100.0, 10.0, 0.93549, 0.96753),
+            (200.0, 2.0, 0.99934, 0.99967),
+            (200.0, 6.0, 0.99409, 0.99704),
+            (200.0, 10.0, 0.98363, 0.99180),
+        ];
+        for (fs, f, g1_table, g2_table) in table {
+            let wdt = 2.0 * PI * f / fs;
+            let g1_formula = wdt.sin() / wdt;
+            let g2_formula = (2.0 - 2.0 * wdt.cos()) / (wdt * wdt);
+            let (g1, g2) = measured_gains(f, fs);
+            assert_abs_diff_eq!(g1, g1_formula, epsilon = 1e-9);
+            assert_abs_diff_eq!(g2, g2_formula, epsilon = 1e-9);
+            assert_abs_diff_eq!(g1, g1_table, epsilon = 1e-5);
+            assert_abs_diff_eq!(g2, g2_table, epsilon = 1e-5);
+        }
+    }
+
+    #[test]
+    fn exact_on_a_quadratic() {
+        // x = 1.5 - 0.8 t + 4.9 t^2: v = -0.8 + 9.8 t, a = 9.8 everywhere, ends included.
+        let dt = 0.01;
+        let x: Vec<f64> = (0..50)
+            .map(|i| {
+                let t = i as f64 * dt;
+                1.5 - 0.8 * t + 4.9 * t * t
+            })
+            .collect();
+        for (i, v) in first(&x, dt).iter().enumerate() {
+            assert_abs_diff_eq!(*v, -0.8 + 9.8 * i as f64 * dt, epsilon = 1e-9);
+        }
+        for a in second(&x, dt) {
+            assert_abs_diff_eq!(a, 9.8, epsilon = 1e-7);
+        }
+        // Three samples: central value, still exact.
+        for a in second(&x[..3], dt) {
+            assert_abs_diff_eq!(a, 9.8, epsilon = 1e-7);
+        }
+    }
+
+    #[test]
+    fn end_formula_is_exact_on_a_cubic() {
+        let x: Vec<f64> = (0..6).map(|i| (i as f64).powi(3)).collect();
+        let a = second(&x, 1.0);
+        assert_abs_diff_eq!(a[0], 0.0, epsilon = 1e-12);
+        assert_abs_diff_eq!(a[5], 30.0, epsilon = 1e-12);
+    }
+
+    #[test]
+    fn short_inputs_do_not_panic() {
+        assert!(first(&[], 0.01).is_empty());
+        assert!(second(&[], 0.01).is_empty());
+        assert!(first(&[1.0], 0.01)[0].is_nan());
+        assert_eq!(first(&[1.0, 2.0], 0.5), vec![2.0, 2.0]);
+        assert!(second(&[1.0, 2.0], 0.5).iter().all(|a| a.is_nan()));
+    }
+
+    #[test]
+    fn of_series_differentiates_each_run_alone() {
+        // Runs: frames 0..5 (x = t^2 per coordinate scale), frame 6 alone, frames 8..10 (two).
+        let dt = 0.1;
+        let mut series: Vec<Option<[f64; 3]>> = vec![None; 10];
+        for (i, s) in series.iter_mut().enumerate().take(5) {
+            let t = i as f64 * dt;
+            *s = Some([t * t, 2.0 * t * t, -t * t]);
+        }
+        series[6] = Some([100.0; 3]);
+        series[8] = Some([0.0, 0.0, 0.0]);
+        series[9] = Some([1.0, 2.0, 3.0]);
+        let (v, a) = of_series(&series, dt);
+        for i in 0..5 {
+            let t = i as f64 * dt;
+            let vi = v[i].unwrap();
+            let ai = a[i].unwrap();
+            assert_abs_diff_eq!(vi[0], 2.0 * t, epsilon = 1e-12);
+            assert_abs_diff_eq!(vi[1], 4.0 * t, epsilon = 1e-12);
+            assert_abs_diff_eq!(vi[2], -2.0 * t, epsilon = 1e-12);
+            assert_abs_diff_eq!(ai[0], 2.0, epsilon = 1e-9);
+            assert_abs_diff_eq!(ai[1], 4.0, epsilon = 1e-9);
+            assert_abs_diff_eq!(ai[2], -2.0, epsilon = 1e-9);
+        }
+        assert_eq!((v[5], a[5]), (None, None));
+        assert_eq!((v[6], a[6]), (None, None));
+        assert_eq!((v[7], a[7]), (None, None));
+        for p in [v[8].unwrap(), v[9].unwrap()] {
+            for (got, want) in p.iter().zip([10.0, 20.0, 30.0]) {
+                assert_abs_diff_eq!(*got, want, epsilon = 1e-12);
+            }
+        }
+        assert_eq!((a[8], a[9]), (None, None));
+    }
+}

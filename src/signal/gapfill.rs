@@ -1,0 +1,426 @@
+//! Gap filling (DESIGN.md 6.1): [`RawMarkers`] (metres, `None` where a marker was not seen)
+//! become [`Markers`] (runs of known samples) by a natural cubic spline over short interior
+//! gaps.
+//!
+//! Inputs: the raw tracks, the frame times `times_s` (seconds, strictly increasing) and the
+//! longest gap to bridge, `max_gap_s`. Outputs: the markers and the list of filled gaps.
+//!
+//! Rules, per marker:
+//! - A *gap* is a maximal stretch of missing frames. A gap touching the first or last frame of
+//!   the trial is a *trial-end gap*: it is never filled (no extrapolation).
+//! - An interior gap of `k` missing frames lasts `k * dt` seconds, where `dt` is the mean frame
+//!   interval across it, `dt = (t[last + 1] - t[first - 1]) / (k + 1)`: at a constant rate `fs`
+//!   a gap of `k` frames lasts `k / fs` seconds (one missing frame at 100 Hz lasts 0.01 s). It is
+//!   *fillable* when `k * dt <= max_gap_s` (compared in frames, `k <= max_gap_s / dt`, with a
+//!   tolerance of 1e-6 frame for rounding in the times). Longer gaps stay missing.
+//! - Runs of present samples joined by fillable gaps form a *stretch*. One natural cubic spline
+//!   ([`NaturalSpline`]; knots at the frame times of every present sample of the stretch, each
+//!   coordinate on its own) is evaluated at the missing frames of the stretch. The stretch ends
+//!   at unfillable gaps and trial-end gaps, so the spline never reaches across them.
+//! - A stretch with fewer than 2 present samples cannot be splined; it is left as measured.
+//!   (A fillable gap always has a present sample on each side, so this only guards bad times.)
+//! - A sample with a non-finite coordinate counts as missing.
+//!
+//! Method: cubic spline interpolation of short marker gaps. Howarth & Callaghan (2010) compared
+//! linear, cubic spline and rigid-body (local coordinate system) fills of marker gaps and found
+//! the spline best for short gaps (shared/reference/methods.md 4); about 0.1 s is the usual
+//! limit (common practice, no source), hence the default `max_gap_s` of 0.10 s (DESIGN.md 6).
+
+use super::spline::NaturalSpline;
+use super::{Markers, Run, Track};
+use crate::trial::RawMarkers;
+use crate::warning::Warning;
+
+/// One interior gap bridged by the spline.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FilledGap {
+    /// Index into the marker labels.
+    pub marker: usize,
+    /// First filled frame.
+    pub start_frame: usize,
+    /// Number of filled frames.
+    pub len_frames: usize,
+}
+
+/// Tolerance, in frames, on the gap length limit (rounding in the frame times).
+const GAP_TOLERANCE_FRAMES: f64 = 1e-6;
+
+/// Fills every interior gap of at most `max_gap_s` seconds (module doc), marker by marker.
+///
+/// The frames are those of `times_s`: samples of a raw track beyond `times_s.len()` are ignored
+/// and a track shorter than `times_s` is missing at the frames it lacks. A `max_gap_s` that is
+/// negative or not a number fills nothing. Filled gaps come sorted by marker, then frame.
+pub fn fill_gaps(raw: &RawMarkers, times_s: &[f64], max_gap_s: f64) -> (Markers, Vec<FilledGap>) {
+    let n_frames = times_s.len();
+    let mut filled = Vec::new();
+    let tracks = raw
+        .tracks
+        .iter()
+        .enumerate()
+        .map(|(marker, samples)| fill_track(marker, samples, times_s, max_gap_s, &mut filled))
+        .collect();
+    let markers = Markers {
+        labels: raw.labels.clone(),
+        tracks,
+        n_frames,
+    };
+    (markers, filled)
+}
+
+/// One [`Warning::FilledGap`] per filled gap: the marker label, the time of the first filled
+/// frame and the gap length `len_frames / rate_hz`, in seconds.
+///
+/// A marker index without a label is named `#<index>`; a frame beyond `times_s` starts at
+/// `start_frame / rate_hz`.
+pub fn filled_warnings(
+    gaps: &[FilledGap],
+    labels: &[String],
+    times_s: &[f64],
+    rate_hz: f64,
+) -> Vec<Warning> {
+    gaps.iter()
+        .map(|g| Warning::FilledGap {
+            marker: labels
+                .get(g.marker)
+                .cloned()
+                .unwrap_or_else(|| format!("#{}", g.marker)),
+            start_s: times_s
+                .get(g.start_frame)
+                .copied()
+                .unwrap_or(g.start_frame as f64 / rate_hz),
+            length_s: g.len_frames as f64 / rate_hz,
+        })
+        .collect()
+}
+
+/// A maximal run of present samples, `start .. end` (end exclusive).
+#[derive(Clone, Copy, Debug)]
+struct Present {
+    start: usize,
+    end: usize,
+}
+
+fn sample(samples: &[Option<[f64; 3]>], frame: usize) -> Option<[f64; 3]> {
+    samples
+        .get(frame)
+        .copied()
+        .flatten()
+        .filter(|p| p.iter().all(|c| c.is_finite()))
+}
+
+fn present_runs(samples: &[Option<[f64; 3]>], n_frames: usize) -> Vec<Present> {
+    let mut runs = Vec::new();
+    let mut start = None;
+    for frame in 0..n_frames {
+        match (sample(samples, frame).is_some(), start) {
+            (true, None) => start = Some(frame),
+            (false, Some(s)) => {
+                runs.push(Present {
+                    start: s,
+                    end: frame,
+                });
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    if let Some(s) = start {
+        runs.push(Present {
+            start: s,
+            end: n_frames,
+        });
+    }
+    runs
+}
+
+/// Whether the interior gap between two present runs may be filled (module doc).
+fn is_fillable(before: Present, after: Present, times_s: &[f64], max_gap_s: f64) -> bool {
+    // Frames before.end ..= after.start - 1 are missing; before.end >= 1 since `before` is
+    // non-empty, and after.start < times_s.len() since `after` is non-empty.
+    let k = after.start - before.end;
+    let span_s = times_s[after.start] - times_s[before.end - 1];
+    let dt_s = span_s / (k + 1) as f64;
+    if !(dt_s > 0.0 && dt_s.is_finite()) {
+        return false;
+    }
+    k as f64 <= max_gap_s / dt_s + GAP_TOLERANCE_FRAMES
+}
+
+fn fill_track(
+    marker: usize,
+    samples: &[Option<[f64; 3]>],
+    times_s: &[f64],
+    max_gap_s: f64,
+    filled: &mut Vec<FilledGap>,
+) -> Track {
+    let present = present_runs(samples, times_s.len());
+    let mut runs = Vec::with_capacity(present.len());
+    let mut i = 0;
+    while i < present.len() {
+        // The stretch is present[i ..= j]: runs joined by fillable gaps.
+        let mut j = i;
+        while j + 1 < present.len() && is_fillable(present[j], present[j + 1], times_s, max_gap_s) {
+            j += 1;
+        }
+        let stretch = &present[i..=j];
+        match splined_run(stretch, samples, times_s) {
+            Some(run) => {
+                for w in stretch.windows(2) {
+                    filled.push(FilledGap {
+                        marker,
+                        start_frame: w[0].end,
+                        len_frames: w[1].start - w[0].end,
+                    });
+                }
+                runs.push(run);
+            }
+            None => runs.extend(stretch.iter().map(|p| measured_run(*p, samples))),
+        }
+        i = j + 1;
+    }
+    Track { runs }
+}
+
+fn measured_run(p: Present, samples: &[Option<[f64; 3]>]) -> Run {
+    // Every frame of `p` is present (it comes from `present_runs`); the NaN is never used.
+    Run {
+        start: p.start,
+        xyz: (p.start..p.end)
+            .map(|f| sample(samples, f).unwrap_or([f64::NAN; 3]))
+            .collect(),
+    }
+}
+
+/// One run over the whole stretch, missing frames from the natural spline through its present
+/// samples. A stretch of a single run needs no spline and is copied. `None` if the spline
+/// cannot be built (fewer than 2 knots or knot times not increasing).
+fn splined_run(stretch: &[Present], samples: &[Option<[f64; 3]>], times_s: &[f64]) -> Option<Run> {
+    let (first, last) = (stretch.first()?, stretch.last()?);
+    if stretch.len() == 1 {
+        return Some(measured_run(*first, samples));
+    }
+    let n_knots: usize = stretch.iter().map(|p| p.end - p.start).sum();
+    let mut knots = Vec::with_capacity(n_knots);
+    let mut values = Vec::with_capacity(n_knots);
+    for p in stretch {
+        for (f, &t) in times_s.iter().enumerate().take(p.end).skip(p.start) {
+            knots.push(t);
+            values.push(sample(samples, f)?);
+        }
+    }
+    let spline = NaturalSpline::new(knots, values)?;
+    let xyz = (first.start..last.end)
+        .map(|f| sample(samples, f).unwrap_or_else(|| spline.eval(times_s[f])))
+        .collect();
+    Some(Run {
+        start: first.start,
+        xyz,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_abs_diff_eq;
+
+    const RATE_HZ: f64 = 100.0;
+
+    fn times(n: usize) -> Vec<f64> {
+        (0..n).map(|i| i as f64 / RATE_HZ).collect()
+    }
+
+    /// A cubic in time, one coefficient set per coordinate (synthetic, metres).
+    fn cubic(t: f64) -> [f64; 3] {
+        [
+            0.1 + 0.5 * t - 0.3 * t * t + 0.2 * t * t * t,
+            1.0 - 0.2 * t + 0.05 * t * t * t,
+            0.9 + 0.1 * t * t - 0.04 * t * t * t,
+        ]
+    }
+
+    fn raw_with_gap(n: usize, missing: std::ops::Range<usize>) -> (RawMarkers, Vec<f64>) {
+        let t = times(n);
+        let track = t
+            .iter()
+            .enumerate()
+            .map(|(f, &ti)| (!missing.contains(&f)).then(|| cubic(ti)))
+            .collect();
+        let raw = RawMarkers {
+            labels: vec!["heel".to_string()],
+            tracks: vec![track],
+        };
+        (raw, t)
+    }
+
+    #[test]
+    fn fills_a_cubic_across_an_interior_gap() {
+        // 8 missing frames in the middle of 400: far from the ends, where the natural end
+        // condition (S'' = 0, wrong for this cubic) has decayed away.
+        let (raw, t) = raw_with_gap(400, 196..204);
+        let (markers, gaps) = fill_gaps(&raw, &t, 0.10);
+        assert_eq!(
+            gaps,
+            vec![FilledGap {
+                marker: 0,
+                start_frame: 196,
+                len_frames: 8
+            }]
+        );
+        assert_eq!(markers.tracks[0].runs.len(), 1);
+        for (f, &tf) in t.iter().enumerate().take(204).skip(196) {
+            let got = markers.tracks[0].at(f).unwrap();
+            let want = cubic(tf);
+            for d in 0..3 {
+                assert_abs_diff_eq!(got[d], want[d], epsilon = 1e-6);
+            }
+        }
+        // Measured samples are kept as they are.
+        assert_eq!(markers.tracks[0].at(10), Some(cubic(t[10])));
+    }
+
+    #[test]
+    fn fills_a_gap_exactly_at_the_limit() {
+        // 10 frames at 100 Hz last 0.10 s (k / fs).
+        let (raw, t) = raw_with_gap(100, 40..50);
+        let (markers, gaps) = fill_gaps(&raw, &t, 0.10);
+        assert_eq!(gaps.len(), 1);
+        assert_eq!(gaps[0].len_frames, 10);
+        assert!((40..50).all(|f| markers.tracks[0].at(f).is_some()));
+    }
+
+    #[test]
+    fn refuses_a_gap_one_frame_longer_than_the_limit() {
+        let (raw, t) = raw_with_gap(100, 40..51);
+        let (markers, gaps) = fill_gaps(&raw, &t, 0.10);
+        assert!(gaps.is_empty());
+        let track = &markers.tracks[0];
+        assert!((40..51).all(|f| track.at(f).is_none()));
+        assert_eq!(track.runs.len(), 2);
+        assert_eq!((track.runs[0].start, track.runs[0].end()), (0, 40));
+        assert_eq!((track.runs[1].start, track.runs[1].end()), (51, 100));
+    }
+
+    #[test]
+    fn never_fills_trial_ends() {
+        let t = times(50);
+        let track = (0..50)
+            .map(|f| (3..47).contains(&f).then(|| cubic(t[f])))
+            .collect();
+        let raw = RawMarkers {
+            labels: vec!["toe".to_string()],
+            tracks: vec![track],
+        };
+        let (markers, gaps) = fill_gaps(&raw, &t, 1.0);
+        assert!(gaps.is_empty());
+        let tr = &markers.tracks[0];
+        assert!([0, 1, 2, 47, 48, 49].iter().all(|&f| tr.at(f).is_none()));
+        assert_eq!(tr.runs.len(), 1);
+        assert_eq!((tr.runs[0].start, tr.runs[0].end()), (3, 47));
+    }
+
+    #[test]
+    fn a_long_gap_bounds_the_spline() {
+        // Short gap at 10..12 is filled from the first stretch only; the long gap 30..60 stays
+        // missing, and the samples after it (a different level) do not move the fill.
+        let t = times(100);
+        let mut track: Vec<Option<[f64; 3]>> = (0..100).map(|f| Some(cubic(t[f]))).collect();
+        for s in track.iter_mut().take(12).skip(10) {
+            *s = None;
+        }
+        for s in track.iter_mut().take(60).skip(30) {
+            *s = None;
+        }
+        let mut far = track.clone();
+        for s in far.iter_mut().skip(60) {
+            *s = Some([5.0, 5.0, 5.0]);
+        }
+        let labels = vec!["knee".to_string()];
+        let (a, gaps_a) = fill_gaps(
+            &RawMarkers {
+                labels: labels.clone(),
+                tracks: vec![track],
+            },
+            &t,
+            0.1,
+        );
+        let (b, _) = fill_gaps(
+            &RawMarkers {
+                labels,
+                tracks: vec![far],
+            },
+            &t,
+            0.1,
+        );
+        assert_eq!(gaps_a.len(), 1);
+        assert_eq!((gaps_a[0].start_frame, gaps_a[0].len_frames), (10, 2));
+        assert_eq!(a.tracks[0].at(10), b.tracks[0].at(10));
+        assert_eq!(a.tracks[0].at(11), b.tracks[0].at(11));
+        assert!((30..60).all(|f| a.tracks[0].at(f).is_none()));
+    }
+
+    #[test]
+    fn two_knots_give_a_straight_line() {
+        // One sample each side of a one-frame gap, trial ends missing beyond them.
+        let t = times(5);
+        let track = vec![
+            None,
+            Some([0.0, 1.0, 2.0]),
+            None,
+            Some([1.0, 3.0, 2.0]),
+            None,
+        ];
+        let raw = RawMarkers {
+            labels: vec!["a".to_string()],
+            tracks: vec![track],
+        };
+        let (m, gaps) = fill_gaps(&raw, &t, 0.01);
+        assert_eq!(gaps.len(), 1);
+        let p = m.tracks[0].at(2).unwrap();
+        assert_abs_diff_eq!(p[0], 0.5, epsilon = 1e-12);
+        assert_abs_diff_eq!(p[1], 2.0, epsilon = 1e-12);
+        assert_abs_diff_eq!(p[2], 2.0, epsilon = 1e-12);
+    }
+
+    #[test]
+    fn odd_inputs_do_not_panic() {
+        let t = times(6);
+        let raw = RawMarkers {
+            labels: vec!["a".into(), "b".into(), "c".into()],
+            tracks: vec![
+                vec![],
+                vec![Some([1.0; 3]), None, Some([f64::NAN, 0.0, 0.0]), None],
+                vec![Some([1.0; 3]); 9],
+            ],
+        };
+        let (m, gaps) = fill_gaps(&raw, &t, f64::NAN);
+        assert!(gaps.is_empty());
+        assert_eq!(m.n_frames, 6);
+        assert!(m.tracks[0].runs.is_empty());
+        assert_eq!(m.tracks[1].n_known(), 1);
+        assert_eq!(m.tracks[2].n_known(), 6);
+        let (_, none) = fill_gaps(&raw, &[], 0.1);
+        assert!(none.is_empty());
+    }
+
+    #[test]
+    fn warnings_name_marker_start_and_length() {
+        let gaps = vec![FilledGap {
+            marker: 0,
+            start_frame: 40,
+            len_frames: 10,
+        }];
+        let w = filled_warnings(&gaps, &["heel".to_string()], &times(100), RATE_HZ);
+        match &w[..] {
+            [Warning::FilledGap {
+                marker,
+                start_s,
+                length_s,
+            }] => {
+                assert_eq!(marker, "heel");
+                assert_abs_diff_eq!(*start_s, 0.40, epsilon = 1e-12);
+                assert_abs_diff_eq!(*length_s, 0.10, epsilon = 1e-12);
+            }
+            other => panic!("unexpected warnings {other:?}"),
+        }
+    }
+}
