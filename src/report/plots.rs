@@ -154,10 +154,20 @@ pub fn lift_view(result: &TrialResult) -> Option<PlaneView> {
 /// loads), each through a temporary file and a rename.
 ///
 /// A trial with no valid frame (no CoM anywhere) is an error and writes no file.
-pub fn write_plots(dir: &Path, result: &TrialResult, summary: &Summary, format: PlotFormat) -> Result<(), Error> {
+pub fn write_plots(
+    dir: &Path,
+    result: &TrialResult,
+    summary: &Summary,
+    format: PlotFormat,
+) -> Result<(), Error> {
     let figures = Figure::for_result(result);
     let file = |figure: Figure| dir.join(format!("{}.{}", figure.stem(), format.extension()));
-    if !result.com.iter().flatten().any(|c| c.iter().all(|v| v.is_finite())) {
+    if !result
+        .com
+        .iter()
+        .flatten()
+        .any(|c| c.iter().all(|v| v.is_finite()))
+    {
         return Err(Error::Write {
             path: file(Figure::Path).display().to_string(),
             source: std::io::Error::other(format!(
@@ -166,12 +176,17 @@ pub fn write_plots(dir: &Path, result: &TrialResult, summary: &Summary, format: 
             )),
         });
     }
-    register_font().map_err(|source| Error::Write { path: file(Figure::Path).display().to_string(), source })?;
+    register_font().map_err(|source| Error::Write {
+        path: file(Figure::Path).display().to_string(),
+        source,
+    })?;
     let ctx = style::Context::new(result, summary);
     for figure in figures {
         let path = file(figure);
-        render(&path, figure, format, &ctx)
-            .map_err(|source| Error::Write { path: path.display().to_string(), source })?;
+        render(&path, figure, format, &ctx).map_err(|source| Error::Write {
+            path: path.display().to_string(),
+            source,
+        })?;
     }
     Ok(())
 }
@@ -180,12 +195,15 @@ pub fn write_plots(dir: &Path, result: &TrialResult, summary: &Summary, format: 
 fn register_font() -> std::io::Result<()> {
     static REGISTERED: OnceLock<bool> = OnceLock::new();
     let ok = *REGISTERED.get_or_init(|| {
-        plotters::style::register_font("sans-serif", FontStyle::Normal, dejavu::sans::regular()).is_ok()
+        plotters::style::register_font("sans-serif", FontStyle::Normal, dejavu::sans::regular())
+            .is_ok()
     });
     if ok {
         Ok(())
     } else {
-        Err(std::io::Error::other("the embedded font (DejaVu Sans) could not be loaded"))
+        Err(std::io::Error::other(
+            "the embedded font (DejaVu Sans) could not be loaded",
+        ))
     }
 }
 
@@ -207,7 +225,11 @@ impl From<RenderError> for std::io::Error {
 
 pub(crate) type Area<DB> = DrawingArea<DB, Shift>;
 
-fn draw<DB: DrawingBackend>(figure: Figure, root: &Area<DB>, ctx: &style::Context) -> Result<(), RenderError>
+fn draw<DB: DrawingBackend>(
+    figure: Figure,
+    root: &Area<DB>,
+    ctx: &style::Context,
+) -> Result<(), RenderError>
 where
     DB::ErrorType: 'static,
 {
@@ -222,7 +244,12 @@ where
 }
 
 /// Draws one figure into `path` through a temporary file in the same folder.
-fn render(path: &Path, figure: Figure, format: PlotFormat, ctx: &style::Context) -> std::io::Result<()> {
+fn render(
+    path: &Path,
+    figure: Figure,
+    format: PlotFormat,
+    ctx: &style::Context,
+) -> std::io::Result<()> {
     match format {
         PlotFormat::Svg => {
             let mut svg = String::new();
@@ -233,7 +260,10 @@ fn render(path: &Path, figure: Figure, format: PlotFormat, ctx: &style::Context)
             crate::report::write_atomic(path, |w| w.write_all(svg.as_bytes()))
         }
         PlotFormat::Png => {
-            let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+            let dir = path
+                .parent()
+                .filter(|p| !p.as_os_str().is_empty())
+                .unwrap_or(Path::new("."));
             std::fs::create_dir_all(dir)?;
             let tmp = temporary_name(path);
             let result = (|| {
@@ -257,8 +287,14 @@ fn render(path: &Path, figure: Figure, format: PlotFormat, ctx: &style::Context)
 fn temporary_name(path: &Path) -> PathBuf {
     static COUNTER: AtomicUsize = AtomicUsize::new(0);
     let n = COUNTER.fetch_add(1, Ordering::Relaxed);
-    let stem = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_default();
-    let ext = path.extension().map(|s| s.to_string_lossy().into_owned()).unwrap_or_default();
+    let stem = path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let ext = path
+        .extension()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
     path.with_file_name(format!(".{stem}.{}-{n}.tmp.{ext}", std::process::id()))
 }
 
@@ -284,7 +320,10 @@ mod tests {
         assert_ne!(a, b);
         assert_eq!(a.parent(), Some(Path::new("/tmp/out")));
         let name = a.file_name().unwrap().to_string_lossy().into_owned();
-        assert!(name.starts_with(".path.") && name.ends_with(".tmp.png"), "{name}");
+        assert!(
+            name.starts_with(".path.") && name.ends_with(".tmp.png"),
+            "{name}"
+        );
     }
 
     #[test]

@@ -15,7 +15,10 @@ const BAND: RGBColor = RGBColor(70, 150, 90);
 /// Unit direction in the floor plane along which the side view measures: the progression, or
 /// the first horizontal axis when the trial has none.
 fn direction(r: &TrialResult) -> [f64; 2] {
-    r.support.progression.filter(|d| d[0].is_finite() && d[1].is_finite()).unwrap_or([1.0, 0.0])
+    r.support
+        .progression
+        .filter(|d| d[0].is_finite() && d[1].is_finite())
+        .unwrap_or([1.0, 0.0])
 }
 
 fn side_points(r: &TrialResult, series: &[Option<[f64; 3]>]) -> Vec<Option<(f64, f64)>> {
@@ -49,7 +52,10 @@ fn centroid(v: &[[f64; 2]]) -> Option<[f64; 2]> {
         Some([cx / (3.0 * a), cy / (3.0 * a)])
     } else {
         let n = v.len() as f64;
-        Some([v.iter().map(|p| p[0]).sum::<f64>() / n, v.iter().map(|p| p[1]).sum::<f64>() / n])
+        Some([
+            v.iter().map(|p| p[0]).sum::<f64>() / n,
+            v.iter().map(|p| p[1]).sum::<f64>() / n,
+        ])
     }
 }
 
@@ -57,8 +63,13 @@ fn centroid(v: &[[f64; 2]]) -> Option<[f64; 2]> {
 /// (module doc of `plots`), or `None` without footprints.
 fn midfoot_m(r: &TrialResult) -> Option<f64> {
     let d = direction(r);
-    let along: Vec<f64> =
-        r.support.footprints.iter().filter_map(|(_, _, v)| centroid(v)).map(|c| c[0] * d[0] + c[1] * d[1]).collect();
+    let along: Vec<f64> = r
+        .support
+        .footprints
+        .iter()
+        .filter_map(|(_, _, v)| centroid(v))
+        .map(|c| c[0] * d[0] + c[1] * d[1])
+        .collect();
     (!along.is_empty()).then(|| along.iter().sum::<f64>() / along.len() as f64)
 }
 
@@ -86,7 +97,12 @@ pub(super) fn view(r: &TrialResult) -> Option<PlaneView> {
     b.add((b.x.0, 0.0));
     let (x_px, y_px) = style::single_plot_px();
     let (x_m, y_m) = style::equal_ranges(b, x_px, y_px, PAD_M, MIN_SPAN_M);
-    Some(PlaneView { x_m, y_m, x_px, y_px })
+    Some(PlaneView {
+        x_m,
+        y_m,
+        x_px,
+        y_px,
+    })
 }
 
 /// `+x`, `-y`, or `0.97 x + 0.24 y` for a direction in the floor plane.
@@ -98,17 +114,28 @@ fn describe(r: &TrialResult, d: [f64; 2]) -> String {
     } else if d[1].abs() > 0.995 {
         format!("{}{nb}", if d[1] > 0.0 { "+" } else { "-" })
     } else {
-        format!("{:.2} {na} {} {:.2} {nb}", d[0], if d[1] < 0.0 { "-" } else { "+" }, d[1].abs())
+        format!(
+            "{:.2} {na} {} {:.2} {nb}",
+            d[0],
+            if d[1] < 0.0 { "-" } else { "+" },
+            d[1].abs()
+        )
     }
 }
 
 pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result<(), RenderError> {
     let r = ctx.result;
     let Some(view) = view(r) else {
-        return Err(RenderError("no valid frames or no load: nothing to plot".to_string()));
+        return Err(RenderError(
+            "no valid frames or no load: nothing to plot".to_string(),
+        ));
     };
     let (title_area, chart_area, legend_area) = style::single_layout(root);
-    style::draw_title(&title_area, &format!("{}: bar and CoM paths, side view", r.name), &ctx.subtitle)?;
+    style::draw_title(
+        &title_area,
+        &format!("{}: bar and CoM paths, side view", r.name),
+        &ctx.subtitle,
+    )?;
     let d = direction(r);
     let x_desc = match r.support.progression {
         Some(_) => format!("along the progression, {} (m)", describe(r, d)),
@@ -122,46 +149,99 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
 
     let band = midfoot_m(r);
     if let Some(m) = band {
-        let (a, b) = ((m - MIDFOOT_HALF_WIDTH_M).max(x.start), (m + MIDFOOT_HALF_WIDTH_M).min(x.end));
-        chart.draw_series([Rectangle::new([(a, y.end), (b, y.start)], BAND.mix(0.16).filled())])?;
-        chart.draw_series([DashedPathElement::new(vec![(m, y.start), (m, y.end)], 8, 6, BAND.mix(0.8).stroke_width(1))])?;
+        let (a, b) = (
+            (m - MIDFOOT_HALF_WIDTH_M).max(x.start),
+            (m + MIDFOOT_HALF_WIDTH_M).min(x.end),
+        );
+        chart.draw_series([Rectangle::new(
+            [(a, y.end), (b, y.start)],
+            BAND.mix(0.16).filled(),
+        )])?;
+        chart.draw_series([DashedPathElement::new(
+            vec![(m, y.start), (m, y.end)],
+            8,
+            6,
+            BAND.mix(0.8).stroke_width(1),
+        )])?;
     }
     if y.start < 0.0 {
-        chart.draw_series([PathElement::new(vec![(x.start, 0.0), (x.end, 0.0)], style::INK.mix(0.7).stroke_width(2))])?;
+        chart.draw_series([PathElement::new(
+            vec![(x.start, 0.0), (x.end, 0.0)],
+            style::INK.mix(0.7).stroke_width(2),
+        )])?;
     }
     let body = style::runs(side_points(r, &r.body_com).into_iter());
     for run in &body {
-        chart.draw_series(DashedLineSeries::new(style::thin_path(run.clone(), m_per_px), 10, 6, style::BODY.stroke_width(2)))?;
+        style::draw_dashed(
+            &chart,
+            &style::thin_path(run.clone(), m_per_px),
+            style::BODY,
+            2,
+        )?;
     }
     let com = style::runs(side_points(r, &r.com).into_iter());
     for run in &com {
-        chart.draw_series(LineSeries::new(style::thin_path(run.clone(), m_per_px / 2.0), style::COM.stroke_width(2)))?;
+        style::draw_line(
+            &chart,
+            &style::thin_path(run.clone(), m_per_px),
+            style::COM,
+            2,
+        )?;
     }
-    let bar = style::runs(r.loads.first().map(|l| side_points(r, l)).unwrap_or_default().into_iter());
+    let bar = style::runs(
+        r.loads
+            .first()
+            .map(|l| side_points(r, l))
+            .unwrap_or_default()
+            .into_iter(),
+    );
     for run in &bar {
-        chart.draw_series(LineSeries::new(style::thin_path(run.clone(), m_per_px / 2.0), style::BAR.stroke_width(3)))?;
+        style::draw_line(
+            &chart,
+            &style::thin_path(run.clone(), m_per_px),
+            style::BAR,
+            3,
+        )?;
     }
     let load = r.load_names.first().map_or("bar", String::as_str);
-    if let (Some(start), Some(end)) = (bar.first().and_then(|b| b.first()), bar.last().and_then(|b| b.last())) {
-        chart.draw_series([Circle::new(*start, 7, style::BAR.filled()), Circle::new(*start, 7, style::PAPER.stroke_width(2))])?;
+    if let (Some(start), Some(end)) = (
+        bar.first().and_then(|b| b.first()),
+        bar.last().and_then(|b| b.last()),
+    ) {
+        // The end square first: when the bar returns to its start, the start dot shows on it.
         let (ex, ey) = chart.backend_coord(end);
-        let square = [(ex - 6, ey - 6), (ex + 6, ey + 6)];
+        let square = [(ex - 8, ey - 8), (ex + 8, ey + 8)];
         root.draw(&Rectangle::new(square, style::BAR.filled()))?;
         root.draw(&Rectangle::new(square, style::PAPER.stroke_width(2)))?;
+        let (sx, sy) = chart.backend_coord(start);
+        root.draw(&Circle::new((sx, sy), 5, style::BAR.filled()))?;
+        root.draw(&Circle::new((sx, sy), 5, style::PAPER.stroke_width(2)))?;
     }
 
     if bar.is_empty() {
-        legend.push(Entry::new(Swatch::Note, format!("load `{load}`: no valid positions")));
+        legend.push(Entry::new(
+            Swatch::Note,
+            format!("load `{load}`: no valid positions"),
+        ));
     } else {
-        legend.push(Entry::new(Swatch::Line(style::BAR, 3), format!("bar path (load `{load}`)")));
+        legend.push(Entry::new(
+            Swatch::Line(style::BAR, 3),
+            format!("bar path (load `{load}`)"),
+        ));
         legend.push(Entry::new(Swatch::Dot(style::BAR), "bar at the start"));
         legend.push(Entry::new(Swatch::Square(style::BAR), "bar at the end"));
     }
-    legend.push(Entry::new(Swatch::Line(style::COM, 2), "system CoM (body and loads)"));
+    legend.push(Entry::new(
+        Swatch::Line(style::COM, 2),
+        "system CoM (body and loads)",
+    ));
     if body.is_empty() {
         legend.push(Entry::new(Swatch::Note, "body CoM: not available"));
     } else {
-        legend.push(Entry::new(Swatch::Dashed(style::BODY, 2), "body CoM (loads excluded)"));
+        legend.push(Entry::new(
+            Swatch::Dashed(style::BODY, 2),
+            "body CoM (loads excluded)",
+        ));
     }
     match band {
         Some(_) => legend.push(Entry::new(

@@ -12,7 +12,10 @@ const PAD_M: f64 = 0.12;
 const MIN_SPAN_M: f64 = 0.6;
 
 fn floor_points(r: &TrialResult, series: &[Option<[f64; 3]>]) -> Vec<Option<(f64, f64)>> {
-    series.iter().map(|p| p.map(|p| r.up_axis.horizontal(&p)).map(|h| (h[0], h[1]))).collect()
+    series
+        .iter()
+        .map(|p| p.map(|p| r.up_axis.horizontal(&p)).map(|h| (h[0], h[1])))
+        .collect()
 }
 
 /// The figure's pixel transform (see [`super::path_view`]).
@@ -27,13 +30,23 @@ pub(super) fn view(r: &TrialResult) -> Option<PlaneView> {
     for p in floor_points(r, &r.xcom).into_iter().flatten() {
         b.add(p);
     }
-    let polygons = r.support.outlines.iter().map(|(_, v)| v).chain(r.support.footprints.iter().map(|(_, _, v)| v));
+    let polygons = r
+        .support
+        .outlines
+        .iter()
+        .map(|(_, v)| v)
+        .chain(r.support.footprints.iter().map(|(_, _, v)| v));
     for v in polygons.flatten() {
         b.add((v[0], v[1]));
     }
     let (x_px, y_px) = style::single_plot_px();
     let (x_m, y_m) = style::equal_ranges(b, x_px, y_px, PAD_M, MIN_SPAN_M);
-    Some(PlaneView { x_m, y_m, x_px, y_px })
+    Some(PlaneView {
+        x_m,
+        y_m,
+        x_px,
+        y_px,
+    })
 }
 
 fn closed(vertices: &[[f64; 2]]) -> Vec<(f64, f64)> {
@@ -66,50 +79,104 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     let s = &r.support;
     let mut legend = Vec::new();
 
-    chart.draw_series(s.outlines.iter().map(|(_, v)| PathElement::new(closed(v), style::BOS.mix(0.42).stroke_width(1))))?;
+    chart.draw_series(
+        s.outlines
+            .iter()
+            .map(|(_, v)| PathElement::new(closed(v), style::BOS.mix(0.42).stroke_width(1))),
+    )?;
     if s.outlines.is_empty() {
-        legend.push(Entry::new(Swatch::Note, "no base of support (no foot in contact or no foot markers)"));
+        legend.push(Entry::new(
+            Swatch::Note,
+            "no base of support (no foot in contact or no foot markers)",
+        ));
     } else {
-        legend.push(Entry::new(Swatch::Outline(style::BOS, 0.8), "BoS outline (at contact changes)"));
+        legend.push(Entry::new(
+            Swatch::Outline(style::BOS, 0.8),
+            "BoS outlines (hull of the feet in contact)",
+        ));
     }
     for side in 0..2 {
         let colour = style::side_colour(side);
-        let prints: Vec<&Vec<[f64; 2]>> = s.footprints.iter().filter(|f| f.0 == side).map(|f| &f.2).collect();
-        chart.draw_series(prints.iter().map(|v| Polygon::new(closed(v), colour.mix(0.16).filled())))?;
-        chart.draw_series(prints.iter().map(|v| PathElement::new(closed(v), colour.mix(0.9).stroke_width(2))))?;
+        let prints: Vec<&Vec<[f64; 2]>> = s
+            .footprints
+            .iter()
+            .filter(|f| f.0 == side)
+            .map(|f| &f.2)
+            .collect();
+        chart.draw_series(
+            prints
+                .iter()
+                .map(|v| Polygon::new(closed(v), colour.mix(0.16).filled())),
+        )?;
+        chart.draw_series(
+            prints
+                .iter()
+                .map(|v| PathElement::new(closed(v), colour.mix(0.9).stroke_width(2))),
+        )?;
         if !prints.is_empty() {
             let word = if side == 0 { "left" } else { "right" };
-            legend.push(Entry::new(Swatch::Patch(colour, 0.16), format!("{word} footprint at contact onset")));
+            legend.push(Entry::new(
+                Swatch::Patch(colour, 0.16),
+                format!("{word} footprint at contact onset"),
+            ));
         }
     }
 
     let xcom = style::runs(floor_points(r, &r.xcom).into_iter());
     for run in xcom.iter() {
-        chart.draw_series(LineSeries::new(style::thin_path(run.clone(), m_per_px / 2.0), style::XCOM.stroke_width(2)))?;
+        style::draw_line(
+            &chart,
+            &style::thin_path(run.clone(), m_per_px),
+            style::XCOM,
+            2,
+        )?;
     }
     let com_runs = style::runs(floor_points(r, &r.com).into_iter());
     for run in com_runs.iter() {
-        chart.draw_series(LineSeries::new(style::thin_path(run.clone(), m_per_px / 2.0), style::COM.stroke_width(3)))?;
+        style::draw_line(
+            &chart,
+            &style::thin_path(run.clone(), m_per_px),
+            style::COM,
+            3,
+        )?;
     }
-    legend.insert(0, Entry::new(Swatch::Line(style::COM, 3), "CoM, floor projection"));
+    legend.insert(
+        0,
+        Entry::new(Swatch::Line(style::COM, 3), "CoM, floor projection"),
+    );
     if xcom.is_empty() {
-        legend.insert(1, Entry::new(Swatch::Note, "XCoM not available (no leg length)"));
+        legend.insert(
+            1,
+            Entry::new(Swatch::Note, "XCoM not available (no leg length)"),
+        );
     } else {
-        legend.insert(1, Entry::new(Swatch::Line(style::XCOM, 2), "XCoM (Hof 2005)"));
+        legend.insert(
+            1,
+            Entry::new(Swatch::Line(style::XCOM, 2), "XCoM (Hof 2005)"),
+        );
     }
     let first = com_runs.first().and_then(|run| run.first()).copied();
     let last = com_runs.last().and_then(|run| run.last()).copied();
     if let (Some(start), Some(end)) = (first, last) {
-        chart.draw_series([Circle::new(start, 8, style::INK.filled()), Circle::new(start, 8, style::PAPER.stroke_width(2))])?;
-        // The end mark: a square of 14 px around the last CoM point, in figure pixels.
+        // The end square first: when the path ends where it began, the start dot shows on it.
         let (ex, ey) = chart.backend_coord(&end);
-        let square = root_square(ex, ey, 7);
+        let square = root_square(ex, ey, 8);
         root.draw(&Rectangle::new(square, style::INK.filled()))?;
         root.draw(&Rectangle::new(square, style::PAPER.stroke_width(2)))?;
+        chart.draw_series([
+            Circle::new(start, 6, style::INK.filled()),
+            Circle::new(start, 6, style::PAPER.stroke_width(2)),
+        ])?;
         legend.push(Entry::new(Swatch::Dot(style::INK), "start of the CoM path"));
-        legend.push(Entry::new(Swatch::Square(style::INK), "end of the CoM path"));
+        legend.push(Entry::new(
+            Swatch::Square(style::INK),
+            "end of the CoM path",
+        ));
     }
-    legend.push(Entry::new(Swatch::Note, "view from above; equal scale on both axes"));
+    legend.push(Entry::new(
+        Swatch::Note,
+        "view from above; equal scale on both axes",
+    ));
     style::draw_legend(&legend_area, (style::MARGIN + 4) as i32, None, &legend)?;
     Ok(())
 }

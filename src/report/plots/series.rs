@@ -13,13 +13,14 @@ use std::ops::Range;
 const PANEL_MARGIN: u32 = 9;
 const PANELS: usize = 3;
 
-/// Top pixel row of each panel area and the height of its plotting area.
-fn panel_rows() -> ([u32; PANELS], u32) {
+/// Top pixel row of each panel area (below the title strip); every plotting area is equally
+/// tall, the last panel also holds the time axis.
+fn panel_rows() -> [u32; PANELS] {
     let (_, h) = style::FIGURE_SIZE_PX;
     let body = h - style::TITLE_H;
     let plot_h = (body - PANELS as u32 * 2 * PANEL_MARGIN - style::X_LABEL_H) / PANELS as u32;
     let step = plot_h + 2 * PANEL_MARGIN;
-    ([0, step, 2 * step], plot_h)
+    [0, step, 2 * step]
 }
 
 fn time_range(r: &TrialResult) -> Range<f64> {
@@ -33,7 +34,11 @@ fn time_range(r: &TrialResult) -> Range<f64> {
 }
 
 fn series_of(r: &TrialResult, f: impl Fn(usize) -> Option<f64>) -> Vec<Option<(f64, f64)>> {
-    r.times_s.iter().enumerate().map(|(i, &t)| f(i).map(|v| (t, v))).collect()
+    r.times_s
+        .iter()
+        .enumerate()
+        .map(|(i, &t)| f(i).map(|v| (t, v)))
+        .collect()
 }
 
 /// Spans (start, end) in seconds where the CoM's floor projection is outside the BoS, each
@@ -59,6 +64,16 @@ fn outside_spans(r: &TrialResult) -> Vec<(f64, f64)> {
     spans
 }
 
+/// One panel: its lines, axis title, values its range must hold, smallest span, and the note
+/// shown when it has no data.
+struct Panel<'a> {
+    lines: &'a [Line],
+    y_desc: &'static str,
+    include: &'static [f64],
+    min_span: f64,
+    empty: &'static str,
+}
+
 struct Line {
     runs: Vec<Vec<(f64, f64)>>,
     swatch: Swatch,
@@ -67,7 +82,11 @@ struct Line {
 
 impl Line {
     fn new(points: Vec<Option<(f64, f64)>>, swatch: Swatch, label: &'static str) -> Line {
-        Line { runs: style::runs(points.into_iter()), swatch, label }
+        Line {
+            runs: style::runs(points.into_iter()),
+            swatch,
+            label,
+        }
     }
 
     fn values(&self) -> impl Iterator<Item = f64> + '_ {
@@ -80,8 +99,12 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     let up = r.up_axis;
     let (w, _) = style::FIGURE_SIZE_PX;
     let (title_area, body) = root.split_vertically(style::TITLE_H);
-    style::draw_title(&title_area, &format!("{}: CoM speed, margins and height over time", r.name), &ctx.subtitle)?;
-    let (tops, plot_h) = panel_rows();
+    style::draw_title(
+        &title_area,
+        &format!("{}: CoM speed, margins and height over time", r.name),
+        &ctx.subtitle,
+    )?;
+    let tops = panel_rows();
     let panels = body.split_by_breakpoints([w - style::LEGEND_W], [tops[1], tops[2]]);
     let t = time_range(r);
     let columns = (w - style::LEGEND_W - 2 * style::MARGIN - style::Y_LABEL_W) as usize;
@@ -89,10 +112,18 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     let norm = |v: &[f64; 3]| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
     let velocity = |i: usize| r.velocity.get(i).copied().flatten();
     let speed = vec![
-        Line::new(series_of(r, |i| velocity(i).map(|v| norm(&v))), Swatch::Line(style::COM, 2), "CoM speed"),
         Line::new(
-            series_of(r, |i| velocity(i).map(|v| up.horizontal(&v)).map(|h| h[0].hypot(h[1]))),
-            Swatch::Line(style::HORIZONTAL, 2),
+            series_of(r, |i| velocity(i).map(|v| norm(&v))),
+            Swatch::Line(style::COM, 3),
+            "CoM speed",
+        ),
+        Line::new(
+            series_of(r, |i| {
+                velocity(i)
+                    .map(|v| up.horizontal(&v))
+                    .map(|h| h[0].hypot(h[1]))
+            }),
+            Swatch::Dashed(style::HORIZONTAL, 2),
             "horizontal speed",
         ),
         Line::new(
@@ -108,21 +139,57 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             Swatch::Line(style::COM, 2),
             "BoS margin of the CoM",
         ),
-        Line::new(series_of(r, |i| s.mos_m.get(i).copied().flatten()), Swatch::Line(style::XCOM, 2), "MoS (XCoM, Hof 2005)"),
+        Line::new(
+            series_of(r, |i| s.mos_m.get(i).copied().flatten()),
+            Swatch::Line(style::XCOM, 2),
+            "MoS (XCoM, Hof 2005)",
+        ),
     ];
     let height = vec![Line::new(
-        series_of(r, |i| r.com.get(i).copied().flatten().map(|c| up.height(&c) - s.floor_m)),
+        series_of(r, |i| {
+            r.com
+                .get(i)
+                .copied()
+                .flatten()
+                .map(|c| up.height(&c) - s.floor_m)
+        }),
         Swatch::Line(style::COM, 2),
         "CoM height above the floor",
     )];
 
-    let spec: [(&[Line], &str, &[f64], f64, &str); PANELS] = [
-        (&speed, "speed (m/s)", &[0.0], 0.1, "no CoM velocity"),
-        (&margins, "margin (m)", &[0.0], 0.05, "no base of support in this trial"),
-        (&height, "height (m)", &[], 0.05, "no CoM"),
+    let panels_spec = [
+        Panel {
+            lines: &speed,
+            y_desc: "speed (m/s)",
+            include: &[0.0],
+            min_span: 0.1,
+            empty: "no CoM velocity",
+        },
+        Panel {
+            lines: &margins,
+            y_desc: "margin (m)",
+            include: &[0.0],
+            min_span: 0.05,
+            empty: "no base of support in this trial",
+        },
+        Panel {
+            lines: &height,
+            y_desc: "height (m)",
+            include: &[],
+            min_span: 0.05,
+            empty: "no CoM",
+        },
     ];
-    for (k, (lines, y_desc, include, min_span, empty_note)) in spec.iter().enumerate() {
-        let (Some(chart_area), Some(legend_area)) = (panels.get(2 * k), panels.get(2 * k + 1)) else {
+    for (k, p) in panels_spec.iter().enumerate() {
+        let Panel {
+            lines,
+            y_desc,
+            include,
+            min_span,
+            empty: empty_note,
+        } = p;
+        let (Some(chart_area), Some(legend_area)) = (panels.get(2 * k), panels.get(2 * k + 1))
+        else {
             continue;
         };
         let last = k + 1 == PANELS;
@@ -136,33 +203,45 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             .x_label_area_size(if last { style::X_LABEL_H } else { 0 })
             .y_label_area_size(style::Y_LABEL_W)
             .build_cartesian_2d(t.clone(), y.clone())?;
-        debug_assert_eq!(chart.plotting_area().dim_in_pixel().1, plot_h);
         style::draw_axes(&mut chart, last.then_some("time (s)"), y_desc)?;
         let mut legend: Vec<Entry> = Vec::new();
         let mut notes: Vec<Entry> = Vec::new();
         if k == 1 {
             let spans = outside_spans(r);
             chart.draw_series(spans.iter().map(|&(a, b)| {
-                Rectangle::new([(a.max(t.start), y.end), (b.min(t.end), y.start)], style::OUTSIDE.mix(0.13).filled())
+                Rectangle::new(
+                    [(a.max(t.start), y.end), (b.min(t.end), y.start)],
+                    style::OUTSIDE.mix(0.13).filled(),
+                )
             }))?;
             if !spans.is_empty() {
-                notes.push(Entry::new(Swatch::Patch(style::OUTSIDE, 0.13), "CoM outside the BoS"));
+                notes.push(Entry::new(
+                    Swatch::Patch(style::OUTSIDE, 0.13),
+                    "CoM outside the BoS",
+                ));
             }
         }
         if y.start < 0.0 && y.end > 0.0 {
-            chart.draw_series([PathElement::new(vec![(t.start, 0.0), (t.end, 0.0)], style::INK.mix(0.7).stroke_width(1))])?;
+            chart.draw_series([PathElement::new(
+                vec![(t.start, 0.0), (t.end, 0.0)],
+                style::INK.mix(0.7).stroke_width(1),
+            )])?;
         }
         draw_events(&mut chart, r, &y)?;
         for line in lines.iter() {
-            let colour = match line.swatch {
-                Swatch::Line(c, _) => c,
-                _ => style::INK,
-            };
             for run in &line.runs {
-                chart.draw_series(LineSeries::new(style::thin_series(run.clone(), columns), colour.stroke_width(2)))?;
+                let run = style::thin_series(run.clone(), columns);
+                match line.swatch {
+                    Swatch::Dashed(c, w) => style::draw_dashed(&chart, &run, c, w)?,
+                    Swatch::Line(c, w) => style::draw_line(&chart, &run, c, w)?,
+                    _ => style::draw_line(&chart, &run, style::INK, 2)?,
+                }
             }
             if line.runs.is_empty() {
-                notes.push(Entry::new(Swatch::Note, format!("{}: not available", line.label)));
+                notes.push(Entry::new(
+                    Swatch::Note,
+                    format!("{}: not available", line.label),
+                ));
             } else {
                 legend.push(Entry::new(line.swatch, line.label));
             }
@@ -171,7 +250,10 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             style::draw_note(&chart, empty_note)?;
         }
         if k == 1 && range.is_some() {
-            legend.push(Entry::new(Swatch::Line(style::INK, 1), "zero: on the BoS edge, below it outside"));
+            legend.push(Entry::new(
+                Swatch::Line(style::INK, 1),
+                "zero: on the BoS edge, below it outside",
+            ));
         }
         legend.extend(notes);
         if last {
@@ -182,33 +264,45 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     Ok(())
 }
 
-fn draw_events<DB: DrawingBackend>(chart: &mut Chart<'_, DB>, r: &TrialResult, y: &Range<f64>) -> Result<(), RenderError> {
+fn draw_events<DB: DrawingBackend>(
+    chart: &mut Chart<'_, DB>,
+    r: &TrialResult,
+    y: &Range<f64>,
+) -> Result<(), RenderError> {
     for (side, events) in r.support.events.iter().enumerate() {
         let colour = style::side_colour(side).mix(0.75);
         let at = |f: &usize| r.times_s.get(*f).copied();
         chart.draw_series(
-            events.heel_strikes.iter().filter_map(at).map(|t| PathElement::new(vec![(t, y.start), (t, y.end)], colour.stroke_width(2))),
-        )?;
-        chart.draw_series(
             events
-                .toe_offs
+                .heel_strikes
                 .iter()
                 .filter_map(at)
-                .map(|t| DashedPathElement::new(vec![(t, y.start), (t, y.end)], 6, 5, colour.stroke_width(2))),
+                .map(|t| PathElement::new(vec![(t, y.start), (t, y.end)], colour.stroke_width(2))),
         )?;
+        chart.draw_series(events.toe_offs.iter().filter_map(at).map(|t| {
+            DashedPathElement::new(vec![(t, y.start), (t, y.end)], 6, 5, colour.stroke_width(2))
+        }))?;
     }
     Ok(())
 }
 
 fn event_legend(r: &TrialResult) -> Vec<Entry> {
     let e = &r.support.events;
-    if e.iter().all(|s| s.heel_strikes.is_empty() && s.toe_offs.is_empty()) {
-        return vec![Entry::new(Swatch::Note, "no gait events (not a walking trial, or no sacrum or foot markers)")];
+    if e.iter()
+        .all(|s| s.heel_strikes.is_empty() && s.toe_offs.is_empty())
+    {
+        return vec![Entry::new(
+            Swatch::Note,
+            "no gait events (not a walking trial, or no sacrum or foot markers)",
+        )];
     }
     let mut out = Vec::new();
     for (side, word) in [(0, "left"), (1, "right")] {
         let c = style::side_colour(side);
-        out.push(Entry::new(Swatch::Line(c, 2), format!("{word} heel strike")));
+        out.push(Entry::new(
+            Swatch::Line(c, 2),
+            format!("{word} heel strike"),
+        ));
         out.push(Entry::new(Swatch::Dashed(c, 2), format!("{word} toe-off")));
     }
     out

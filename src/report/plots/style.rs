@@ -66,10 +66,23 @@ impl<'a> Context<'a> {
     pub fn new(result: &'a TrialResult, summary: &Summary) -> Context<'a> {
         let s = &summary.subject;
         let who = match s.name.as_deref().filter(|n| !n.trim().is_empty()) {
-            Some(name) => format!("subject {name} ({}, {:.1} kg, {:.2} m)", s.sex.word(), s.mass_kg, s.height_m),
-            None => format!("subject {}, {:.1} kg, {:.2} m", s.sex.word(), s.mass_kg, s.height_m),
+            Some(name) => format!(
+                "subject {name} ({}, {:.1} kg, {:.2} m)",
+                s.sex.word(),
+                s.mass_kg,
+                s.height_m
+            ),
+            None => format!(
+                "subject {}, {:.1} kg, {:.2} m",
+                s.sex.word(),
+                s.mass_kg,
+                s.height_m
+            ),
         };
-        Context { result, subtitle: format!("{who}  ·  table {}", result.model.table) }
+        Context {
+            result,
+            subtitle: format!("{who}  ·  table {}", result.model.table),
+        }
     }
 
     /// Name of lab axis `index` (0, 1, 2).
@@ -78,11 +91,11 @@ impl<'a> Context<'a> {
     }
 }
 
-pub fn text(size_px: u32, colour: &RGBColor) -> TextStyle<'static> {
+pub fn text(size_px: u32, colour: &'static RGBColor) -> TextStyle<'static> {
     TextStyle::from((FONT, size_px).into_font()).color(colour)
 }
 
-fn bold(size_px: u32, colour: &RGBColor) -> TextStyle<'static> {
+fn bold(size_px: u32, colour: &'static RGBColor) -> TextStyle<'static> {
     TextStyle::from((FONT, size_px, FontStyle::Bold).into_font()).color(colour)
 }
 
@@ -96,13 +109,24 @@ pub fn tick(v: &f64) -> String {
 }
 
 /// The title strip: a bold title and a subtitle line.
-pub fn draw_title<DB: DrawingBackend>(area: &Area<DB>, title: &str, subtitle: &str) -> Result<(), RenderError> {
+pub fn draw_title<DB: DrawingBackend>(
+    area: &Area<DB>,
+    title: &str,
+    subtitle: &str,
+) -> Result<(), RenderError> {
     let x = (MARGIN + 8) as i32;
     area.draw(&Text::new(title.to_string(), (x, 14), bold(TITLE_PX, &INK)))?;
-    area.draw(&Text::new(subtitle.to_string(), (x, 14 + TITLE_PX as i32 + 10), text(SUBTITLE_PX, &MUTED)))?;
+    area.draw(&Text::new(
+        subtitle.to_string(),
+        (x, 14 + TITLE_PX as i32 + 10),
+        text(SUBTITLE_PX, &MUTED),
+    ))?;
     let (w, h) = area.dim_in_pixel();
     area.draw(&PathElement::new(
-        vec![(MARGIN as i32, h as i32 - 2), (w as i32 - MARGIN as i32, h as i32 - 2)],
+        vec![
+            (MARGIN as i32, h as i32 - 2),
+            (w as i32 - MARGIN as i32, h as i32 - 2),
+        ],
         ShapeStyle::from(&RGBColor(215, 215, 220)).stroke_width(1),
     ))?;
     Ok(())
@@ -131,7 +155,10 @@ pub struct Entry {
 
 impl Entry {
     pub fn new(swatch: Swatch, label: impl Into<String>) -> Entry {
-        Entry { swatch, label: label.into() }
+        Entry {
+            swatch,
+            label: label.into(),
+        }
     }
 }
 
@@ -173,12 +200,25 @@ pub fn draw_legend<DB: DrawingBackend>(
     Ok(y - top)
 }
 
-fn wrap<DB: DrawingBackend>(area: &Area<DB>, label: &str, style: &TextStyle, max_w: i32) -> Vec<String> {
-    let fits = |s: &str| area.estimate_text_size(s, style).map_or(true, |(w, _)| w as i32 <= max_w);
+fn wrap<DB: DrawingBackend>(
+    area: &Area<DB>,
+    label: &str,
+    style: &TextStyle,
+    max_w: i32,
+) -> Vec<String> {
+    // The layout estimate runs a little short of the drawn width: keep a tenth in hand.
+    let fits = |s: &str| {
+        area.estimate_text_size(s, style)
+            .map_or(true, |(w, _)| w as i32 * 11 / 10 <= max_w)
+    };
     let mut lines: Vec<String> = Vec::new();
     let mut current = String::new();
     for word in label.split_whitespace() {
-        let candidate = if current.is_empty() { word.to_string() } else { format!("{current} {word}") };
+        let candidate = if current.is_empty() {
+            word.to_string()
+        } else {
+            format!("{current} {word}")
+        };
         if current.is_empty() || fits(&candidate) {
             current = candidate;
         } else {
@@ -192,22 +232,36 @@ fn wrap<DB: DrawingBackend>(area: &Area<DB>, label: &str, style: &TextStyle, max
     lines
 }
 
-fn draw_swatch<DB: DrawingBackend>(area: &Area<DB>, swatch: Swatch, (x, y): (i32, i32)) -> Result<(), RenderError> {
+fn draw_swatch<DB: DrawingBackend>(
+    area: &Area<DB>,
+    swatch: Swatch,
+    (x, y): (i32, i32),
+) -> Result<(), RenderError> {
     let (a, b) = ((x, y), (x + SWATCH_W, y));
     match swatch {
         Swatch::Line(c, w) => area.draw(&PathElement::new(vec![a, b], c.stroke_width(w)))?,
-        Swatch::Dashed(c, w) => area.draw(&DashedPathElement::new(vec![a, b], 7, 5, c.stroke_width(w)))?,
+        Swatch::Dashed(c, w) => {
+            area.draw(&DashedPathElement::new(vec![a, b], 7, 5, c.stroke_width(w)))?
+        }
         Swatch::Patch(c, alpha) => {
-            area.draw(&Rectangle::new([(x, y - 8), (x + SWATCH_W, y + 8)], c.mix(alpha).filled()))?;
-            area.draw(&Rectangle::new([(x, y - 8), (x + SWATCH_W, y + 8)], c.stroke_width(1)))?;
+            area.draw(&Rectangle::new(
+                [(x, y - 8), (x + SWATCH_W, y + 8)],
+                c.mix(alpha).filled(),
+            ))?;
+            area.draw(&Rectangle::new(
+                [(x, y - 8), (x + SWATCH_W, y + 8)],
+                c.stroke_width(1),
+            ))?;
         }
-        Swatch::Outline(c, alpha) => {
-            area.draw(&Rectangle::new([(x, y - 8), (x + SWATCH_W, y + 8)], c.mix(alpha).stroke_width(1)))?
-        }
+        Swatch::Outline(c, alpha) => area.draw(&Rectangle::new(
+            [(x, y - 8), (x + SWATCH_W, y + 8)],
+            c.mix(alpha).stroke_width(1),
+        ))?,
         Swatch::Dot(c) => area.draw(&Circle::new((x + SWATCH_W / 2, y), 6, c.filled()))?,
-        Swatch::Square(c) => {
-            area.draw(&Rectangle::new([(x + SWATCH_W / 2 - 6, y - 6), (x + SWATCH_W / 2 + 6, y + 6)], c.filled()))?
-        }
+        Swatch::Square(c) => area.draw(&Rectangle::new(
+            [(x + SWATCH_W / 2 - 6, y - 6), (x + SWATCH_W / 2 + 6, y + 6)],
+            c.filled(),
+        ))?,
         Swatch::Note => {}
     }
     Ok(())
@@ -216,8 +270,14 @@ fn draw_swatch<DB: DrawingBackend>(area: &Area<DB>, swatch: Swatch, (x, y): (i32
 /// First and last pixel (x, then y) of the plotting area of a one-chart figure (path, lift).
 pub fn single_plot_px() -> ((i32, i32), (i32, i32)) {
     let (w, h) = FIGURE_SIZE_PX;
-    let x = ((MARGIN + Y_LABEL_W) as i32, (w - LEGEND_W - MARGIN) as i32 - 1);
-    let y = ((TITLE_H + MARGIN) as i32, (h - MARGIN - X_LABEL_H) as i32 - 1);
+    let x = (
+        (MARGIN + Y_LABEL_W) as i32,
+        (w - LEGEND_W - MARGIN) as i32 - 1,
+    );
+    let y = (
+        (TITLE_H + MARGIN) as i32,
+        (h - MARGIN - X_LABEL_H) as i32 - 1,
+    );
     (x, y)
 }
 
@@ -261,7 +321,8 @@ pub fn draw_axes<DB: DrawingBackend>(
         .axis_desc_style(text(AXIS_TITLE_PX, &INK))
         .axis_style(INK.stroke_width(1))
         .bold_line_style(RGBColor(200, 200, 206).stroke_width(1))
-        .light_line_style(RGBColor(236, 236, 240).stroke_width(1))
+        .light_line_style(RGBColor(238, 238, 242).stroke_width(1))
+        .max_light_lines(1)
         .y_desc(y_desc);
     match x_desc {
         Some(d) => {
@@ -272,6 +333,82 @@ pub fn draw_axes<DB: DrawingBackend>(
         }
     }
     mesh.draw()?;
+    // A light frame, so stacked panels without their own time axis still read as boxes.
+    let area = chart.plotting_area().strip_coord_spec();
+    let (w, h) = area.dim_in_pixel();
+    area.draw(&Rectangle::new(
+        [(0, 0), (w as i32 - 1, h as i32 - 1)],
+        RGBColor(170, 170, 178).stroke_width(1),
+    ))?;
+    Ok(())
+}
+
+/// Points per piece of a thick line (see [`draw_line`]).
+const PIECE: usize = 24;
+
+/// Draws one run of a line in a chart: points are mapped to pixels, repeated pixels dropped,
+/// and a thick line is drawn in short overlapping pieces, each filled on its own, so a path
+/// that doubles back on itself (a bar going up and down) stays solid in the bitmap. A run of
+/// one point is a dot.
+pub fn draw_line<DB: DrawingBackend>(
+    chart: &Chart<'_, DB>,
+    run: &[(f64, f64)],
+    colour: RGBColor,
+    width: u32,
+) -> Result<(), RenderError> {
+    let px = pixels(chart, run);
+    let plain = chart.plotting_area().strip_coord_spec();
+    let style = colour.stroke_width(width);
+    if let [only] = px.as_slice() {
+        plain.draw(&Circle::new(*only, width.max(2), colour.filled()))?;
+        return Ok(());
+    }
+    if width <= 1 {
+        plain.draw(&PathElement::new(px, style))?;
+        return Ok(());
+    }
+    let mut start = 0;
+    while start + 1 < px.len() {
+        let end = (start + PIECE).min(px.len() - 1);
+        plain.draw(&PathElement::new(px[start..=end].to_vec(), style))?;
+        start = end;
+    }
+    Ok(())
+}
+
+/// A run as pixels of the chart's plotting area, repeated pixels dropped.
+fn pixels<DB: DrawingBackend>(chart: &Chart<'_, DB>, run: &[(f64, f64)]) -> Vec<(i32, i32)> {
+    let (bx, by) = chart.plotting_area().get_base_pixel();
+    let mut px: Vec<(i32, i32)> = Vec::with_capacity(run.len());
+    for p in run {
+        let (x, y) = chart.backend_coord(p);
+        let q = (x - bx, y - by);
+        if px.last() != Some(&q) {
+            px.push(q);
+        }
+    }
+    px
+}
+
+/// Draws one run as a dashed line (dashes of 9 px, gaps of 6 px along the path).
+pub fn draw_dashed<DB: DrawingBackend>(
+    chart: &Chart<'_, DB>,
+    run: &[(f64, f64)],
+    colour: RGBColor,
+    width: u32,
+) -> Result<(), RenderError> {
+    let px = pixels(chart, run);
+    let plain = chart.plotting_area().strip_coord_spec();
+    if let [only] = px.as_slice() {
+        plain.draw(&Circle::new(*only, width.max(2), colour.filled()))?;
+        return Ok(());
+    }
+    plain.draw(&DashedPathElement::new(
+        px,
+        9,
+        6,
+        colour.stroke_width(width),
+    ))?;
     Ok(())
 }
 
@@ -280,7 +417,11 @@ pub fn draw_note<DB: DrawingBackend>(chart: &Chart<'_, DB>, note: &str) -> Resul
     let area = chart.plotting_area();
     let (w, h) = area.dim_in_pixel();
     let style = text(LEGEND_PX + 2, &MUTED).pos(Pos::new(HPos::Center, VPos::Center));
-    area.strip_coord_spec().draw(&Text::new(note.to_string(), (w as i32 / 2, h as i32 / 2), style))?;
+    area.strip_coord_spec().draw(&Text::new(
+        note.to_string(),
+        (w as i32 / 2, h as i32 / 2),
+        style,
+    ))?;
     Ok(())
 }
 
@@ -293,7 +434,10 @@ pub struct Bounds {
 
 impl Bounds {
     pub fn empty() -> Bounds {
-        Bounds { x: (f64::INFINITY, f64::NEG_INFINITY), y: (f64::INFINITY, f64::NEG_INFINITY) }
+        Bounds {
+            x: (f64::INFINITY, f64::NEG_INFINITY),
+            y: (f64::INFINITY, f64::NEG_INFINITY),
+        }
     }
 
     pub fn add(&mut self, p: (f64, f64)) {
@@ -311,7 +455,13 @@ impl Bounds {
 /// Data ranges with one metre the same number of pixels along both axes: the bounds padded by
 /// `pad_m` (and to at least `min_span_m`), then the shorter side widened about its centre to
 /// the plotting area's aspect. `x_px`, `y_px`: first and last pixel of each axis.
-pub fn equal_ranges(b: Bounds, x_px: (i32, i32), y_px: (i32, i32), pad_m: f64, min_span_m: f64) -> (Range<f64>, Range<f64>) {
+pub fn equal_ranges(
+    b: Bounds,
+    x_px: (i32, i32),
+    y_px: (i32, i32),
+    pad_m: f64,
+    min_span_m: f64,
+) -> (Range<f64>, Range<f64>) {
     let w = f64::from((x_px.1 - x_px.0).max(1));
     let h = f64::from((y_px.1 - y_px.0).max(1));
     let span_x = (b.x.1 - b.x.0 + 2.0 * pad_m).max(min_span_m);
@@ -324,7 +474,11 @@ pub fn equal_ranges(b: Bounds, x_px: (i32, i32), y_px: (i32, i32), pad_m: f64, m
 
 /// A padded range for a time-series panel; `None` without data. Spans under `min_span` grow
 /// about their centre; `include` values (e.g. 0) are kept in range.
-pub fn value_range(values: impl Iterator<Item = f64>, include: &[f64], min_span: f64) -> Option<Range<f64>> {
+pub fn value_range(
+    values: impl Iterator<Item = f64>,
+    include: &[f64],
+    min_span: f64,
+) -> Option<Range<f64>> {
     let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
     let mut any = false;
     for v in values.filter(|v| v.is_finite()) {
@@ -378,7 +532,9 @@ pub fn thin_series(run: Vec<(f64, f64)>, columns: usize) -> Vec<(f64, f64)> {
     let per = run.len().div_ceil(columns);
     let mut out = Vec::with_capacity(4 * columns);
     for chunk in run.chunks(per) {
-        let (Some(&first), Some(&last)) = (chunk.first(), chunk.last()) else { continue };
+        let (Some(&first), Some(&last)) = (chunk.first(), chunk.last()) else {
+            continue;
+        };
         let (mut lo, mut hi) = (0, 0);
         for (i, p) in chunk.iter().enumerate() {
             if p.1 < chunk[lo].1 {
@@ -428,7 +584,13 @@ mod tests {
 
     #[test]
     fn runs_break_at_missing_values() {
-        let pts = vec![Some((0.0, 1.0)), Some((1.0, 2.0)), None, Some((3.0, f64::NAN)), Some((4.0, 5.0))];
+        let pts = vec![
+            Some((0.0, 1.0)),
+            Some((1.0, 2.0)),
+            None,
+            Some((3.0, f64::NAN)),
+            Some((4.0, 5.0)),
+        ];
         let r = runs(pts.into_iter());
         assert_eq!(r, vec![vec![(0.0, 1.0), (1.0, 2.0)], vec![(4.0, 5.0)]]);
     }
@@ -449,7 +611,9 @@ mod tests {
 
     #[test]
     fn thinning_keeps_extremes_and_ends() {
-        let run: Vec<(f64, f64)> = (0..10_000).map(|i| (i as f64, ((i * 37) % 101) as f64)).collect();
+        let run: Vec<(f64, f64)> = (0..10_000)
+            .map(|i| (i as f64, ((i * 37) % 101) as f64))
+            .collect();
         let thin = thin_series(run.clone(), 100);
         assert!(thin.len() <= 400);
         assert_eq!(thin.first(), run.first());
