@@ -75,6 +75,8 @@ pub struct TrialResult {
     pub segment_names: Vec<String>,
     pub segments: Vec<Vec<Option<[f64; 3]>>>,
     pub support: SupportSeries,
+    /// Mid-foot and repetitions, for trials with loads.
+    pub lift: Option<support::lift::LiftSeries>,
     pub model: ModelInfo,
     pub warnings: Vec<Warning>,
 }
@@ -210,6 +212,18 @@ pub fn run_trial(
         &config.support,
     );
     warnings.extend(support.warnings.iter().cloned());
+    let lift = loads.first().map(|bar| {
+        support::lift::analyse(
+            &foot,
+            &support,
+            &system,
+            bar,
+            up,
+            &trial.times_s,
+            trial.rate_hz,
+            config.support.midfoot_band_m,
+        )
+    });
 
     let model = ModelInfo {
         table: table.name.clone(),
@@ -250,6 +264,7 @@ pub fn run_trial(
         },
         segments,
         support,
+        lift,
         model,
         warnings,
     })

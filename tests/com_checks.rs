@@ -6,24 +6,11 @@ use approx::assert_abs_diff_eq;
 use gravline::anthropometry::{SegmentTable, Sex};
 use gravline::config::{Config, RawConfig, Subject};
 use gravline::pipeline::{run_trial, RunOptions, TrialResult};
-use gravline::trial::{RawMarkers, Trial, UpAxis};
+use gravline::trial::Trial;
 use nalgebra::{Rotation3, Vector3};
 
-/// A static trial: every marker at a fixed position for `frames` frames at 100 Hz.
-fn static_trial(points: &[(&str, [f64; 3])], frames: usize) -> Trial {
-    Trial {
-        name: "static".into(),
-        file: "static.csv".into(),
-        times_s: (0..frames).map(|i| i as f64 / 100.0).collect(),
-        rate_hz: 100.0,
-        up_axis: UpAxis::Z,
-        markers: RawMarkers {
-            labels: points.iter().map(|(n, _)| n.to_string()).collect(),
-            tracks: points.iter().map(|(_, p)| vec![Some(*p); frames]).collect(),
-        },
-        warnings: Vec::new(),
-    }
-}
+mod common;
+use common::{marker_body_trial, static_trial};
 
 fn config(toml: &str) -> Config {
     Config::from_raw(&RawConfig::from_toml(toml, "test").unwrap(), "test").unwrap()
@@ -120,41 +107,6 @@ fn a_rigid_motion_of_the_lab_moves_the_com_with_it() {
         let expected = rot * Vector3::from(a.unwrap()) + shift;
         assert_abs_diff_eq!(Vector3::from(b.unwrap()), expected, epsilon = 1e-9);
     }
-}
-
-/// A standing body from anatomical markers (x forward, y left, z up), invented for the test.
-fn marker_body_trial() -> Trial {
-    let mut p: Vec<(&str, [f64; 3])> = vec![
-        ("c7", [-0.06, 0.0, 1.50]),
-        ("jugular", [0.06, 0.0, 1.44]),
-        ("l_head_front", [0.08, 0.07, 1.64]),
-        ("r_head_front", [0.08, -0.07, 1.64]),
-        ("l_head_back", [-0.09, 0.07, 1.66]),
-        ("r_head_back", [-0.09, -0.07, 1.66]),
-        ("l_asis", [0.10, 0.125, 1.00]),
-        ("r_asis", [0.10, -0.125, 1.00]),
-        ("l_psis", [-0.06, 0.045, 1.03]),
-        ("r_psis", [-0.06, -0.045, 1.03]),
-    ];
-    for (side, y) in [("l", 1.0), ("r", -1.0)] {
-        let name =
-            |stem: &str| -> &'static str { Box::leak(format!("{side}_{stem}").into_boxed_str()) };
-        p.extend([
-            (name("acromion"), [0.0, 0.19 * y, 1.45]),
-            (name("elbow_lat"), [0.0, 0.24 * y, 1.12]),
-            (name("elbow_med"), [0.0, 0.17 * y, 1.12]),
-            (name("wrist_rad"), [0.02, 0.22 * y, 0.86]),
-            (name("wrist_uln"), [-0.02, 0.22 * y, 0.86]),
-            (name("hand"), [0.0, 0.22 * y, 0.78]),
-            (name("knee_lat"), [0.01, 0.14 * y, 0.50]),
-            (name("knee_med"), [0.01, 0.04 * y, 0.50]),
-            (name("ankle_lat"), [-0.01, 0.12 * y, 0.07]),
-            (name("ankle_med"), [-0.01, 0.05 * y, 0.07]),
-            (name("heel"), [-0.06, 0.09 * y, 0.02]),
-            (name("toe"), [0.20, 0.10 * y, 0.02]),
-        ]);
-    }
-    static_trial(&p, 20)
 }
 
 /// Physics: a body folded double (trunk and arms folded down over straight, horizontal legs)

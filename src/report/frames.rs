@@ -43,6 +43,9 @@ pub fn frames_header(r: &TrialResult) -> Vec<String> {
         for name in &r.load_names {
             xyz(&mut h, &format!("load_{name}"));
         }
+        xyz(&mut h, "midfoot");
+        h.push("com_midfoot_ap_m".to_string());
+        h.push("bar_midfoot_ap_m".to_string());
     }
     for name in &r.group_names {
         xyz(&mut h, &format!("group_{name}"));
@@ -96,6 +99,19 @@ pub fn write_frames(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
             for l in &r.loads {
                 opt3(&mut w, l[f].as_ref())?;
             }
+            let lift = r.lift.as_ref();
+            opt3(
+                &mut w,
+                lift.and_then(|l| l.midfoot.get(f)).and_then(Option::as_ref),
+            )?;
+            opt(
+                &mut w,
+                lift.and_then(|l| l.com_midfoot_ap_m.get(f).copied().flatten()),
+            )?;
+            opt(
+                &mut w,
+                lift.and_then(|l| l.bar_midfoot_ap_m.get(f).copied().flatten()),
+            )?;
         }
         for g in &r.groups {
             opt3(&mut w, g[f].as_ref())?;
@@ -103,6 +119,28 @@ pub fn write_frames(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
         for g in &r.segments {
             opt3(&mut w, g[f].as_ref())?;
         }
+        w.write_all(b"\n")?;
+    }
+    Ok(())
+}
+
+/// Writes `reps.csv`: one row per repetition of the bar (lifts).
+pub fn write_reps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
+    writeln!(
+        w,
+        "rep,start_s,bottom_s,end_s,depth_m,bar_horizontal_excursion_m,peak_bar_ascent_speed_m_s,max_abs_com_midfoot_ap_m,mean_abs_com_midfoot_ap_m,time_outside_band_s"
+    )?;
+    for rep in r.lift.iter().flat_map(|l| &l.reps) {
+        write!(
+            w,
+            "{},{:.6},{:.6},{:.6},{:.6}",
+            rep.rep, rep.start_s, rep.bottom_s, rep.end_s, rep.depth_m
+        )?;
+        opt(&mut w, rep.bar_horizontal_excursion_m)?;
+        opt(&mut w, Some(rep.peak_bar_ascent_speed_m_s))?;
+        opt(&mut w, rep.max_abs_com_midfoot_ap_m)?;
+        opt(&mut w, rep.mean_abs_com_midfoot_ap_m)?;
+        opt(&mut w, Some(rep.time_outside_band_s))?;
         w.write_all(b"\n")?;
     }
     Ok(())

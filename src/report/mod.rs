@@ -9,7 +9,7 @@ pub mod frames;
 pub mod plots;
 pub mod summary;
 
-pub use frames::{frames_header, write_frames, write_steps};
+pub use frames::{frames_header, write_frames, write_reps, write_steps};
 pub use summary::{Summary, CAUTIONS};
 
 use std::io::Write;
@@ -73,6 +73,10 @@ pub fn write_outputs(
     if !result.support.steps.is_empty() {
         let steps = dir.join("steps.csv");
         write_atomic(&steps, |w| write_steps(result, w)).map_err(err(&steps))?;
+    }
+    if result.lift.as_ref().is_some_and(|l| !l.reps.is_empty()) {
+        let reps = dir.join("reps.csv");
+        write_atomic(&reps, |w| write_reps(result, w)).map_err(err(&reps))?;
     }
     for format in plots {
         plots::write_plots(dir, result, summary, *format)?;

@@ -68,6 +68,17 @@ pub struct StepMeans {
     pub com_vertical_excursion_m: Option<f64>,
 }
 
+/// Lift figures (trials with loads).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct LiftFigures {
+    pub midfoot_band_m: f64,
+    pub max_abs_com_midfoot_ap_m: Option<f64>,
+    pub mean_abs_com_midfoot_ap_m: Option<f64>,
+    /// Time with the system CoM outside the mid-foot band.
+    pub time_outside_band_s: f64,
+    pub reps: Vec<crate::support::lift::Rep>,
+}
+
 /// Everything `summary.json` holds.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Summary {
@@ -80,6 +91,7 @@ pub struct Summary {
     pub com: ComFigures,
     pub support: SupportFigures,
     pub steps: Vec<StepMeans>,
+    pub lift: Option<LiftFigures>,
     pub warnings: Vec<String>,
     pub warning_details: Vec<Warning>,
     pub provenance: Provenance,
@@ -190,6 +202,16 @@ impl Summary {
                 }
             })
             .collect();
+        let lift = r.lift.as_ref().map(|l| {
+            let abs = || l.com_midfoot_ap_m.iter().flatten().map(|d| d.abs());
+            LiftFigures {
+                midfoot_band_m: l.band_m,
+                max_abs_com_midfoot_ap_m: abs().reduce(f64::max),
+                mean_abs_com_midfoot_ap_m: mean(abs()),
+                time_outside_band_s: l.time_outside_band_s(r.rate_hz),
+                reps: l.reps.clone(),
+            }
+        });
         let mut warnings = r.warnings.clone();
         if let Some(f) = com.mean_height_of_stature {
             // reference/methods.md 6: standing CoM about 0.55-0.57 of stature; a mean far outside
@@ -217,6 +239,7 @@ impl Summary {
             com,
             support,
             steps,
+            lift,
             warnings: warnings.iter().map(|w| w.to_string()).collect(),
             warning_details: warnings,
             provenance: Provenance {

@@ -23,6 +23,7 @@ pub use contact::{detect_contact, floor_level, transitions, ContactThresholds};
 pub use events::{zeni_events, zeni_events_with, GaitEvents, ZeniOptions};
 pub use hull::{convex_hull, Hull};
 pub use margin::{directional_margin, signed_distance, time_to_boundary_s, DirectionalMargin};
+pub mod lift;
 pub mod stage;
 
 pub use stage::{analyse, floor_m, FootFrames, Step, SupportSeries};
