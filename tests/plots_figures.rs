@@ -156,8 +156,14 @@ fn near(pixel: [u8; 3], rgb: [u8; 3], tolerance: i32) -> bool {
         .all(|(&a, b)| (i32::from(a) - i32::from(b)).abs() <= tolerance)
 }
 
-/// Whether a pixel within `radius` of (x, y) has colour `rgb` (within 40 per channel).
-fn has_colour_near(img: &image::RgbImage, (x, y): (i32, i32), radius: i32, rgb: [u8; 3]) -> bool {
+/// Whether a pixel within `radius` of (x, y) has colour `rgb` (within `tolerance` per channel).
+fn has_colour_near(
+    img: &image::RgbImage,
+    (x, y): (i32, i32),
+    radius: i32,
+    rgb: [u8; 3],
+    tolerance: i32,
+) -> bool {
     (-radius..=radius).any(|dx| {
         (-radius..=radius).any(|dy| {
             let (px, py) = (x + dx, y + dy);
@@ -165,7 +171,7 @@ fn has_colour_near(img: &image::RgbImage, (x, y): (i32, i32), radius: i32, rgb: 
                 && py >= 0
                 && (px as u32) < img.width()
                 && (py as u32) < img.height()
-                && near(img.get_pixel(px as u32, py as u32).0, rgb, 40)
+                && near(img.get_pixel(px as u32, py as u32).0, rgb, tolerance)
         })
     })
 }
@@ -188,6 +194,8 @@ fn inside(view: &PlaneView, (x, y): (i32, i32)) -> bool {
 /// The colours of the CoM line and the bar path (plots::style).
 const COM_RGB: [u8; 3] = [24, 72, 150];
 const BAR_RGB: [u8; 3] = [196, 28, 72];
+/// The band's (70, 150, 90) at 16 % over white.
+const BAND_RGB: [u8; 3] = [225, 238, 229];
 
 #[test]
 fn a_standing_trial_gets_a_path_and_a_series_figure_in_both_formats() {
@@ -230,7 +238,7 @@ fn the_com_path_is_drawn_where_the_top_view_maps_it() {
     for &p in mapped.iter().step_by(25).skip(1) {
         assert!(inside(&view, p), "{p:?} outside the plotting area");
         assert!(
-            has_colour_near(&img, p, 2, COM_RGB),
+            has_colour_near(&img, p, 2, COM_RGB, 40),
             "no CoM line at pixel {p:?}"
         );
     }
@@ -371,10 +379,25 @@ fn a_trial_with_a_load_gets_a_side_view_with_the_bar_path_on_its_pixels() {
         let px = view.pixel([p[0], p[2] - floor]);
         assert!(inside(&view, px));
         assert!(
-            has_colour_near(&img, px, 2, BAR_RGB),
+            has_colour_near(&img, px, 2, BAR_RGB, 40),
             "no bar path at {px:?}"
         );
     }
+    // The mid-foot band (light green) is centred on the lift stage's mean mid-foot: filled 2 cm
+    // beside its centre at 0.3 m height, and not 10 cm beyond its edge.
+    let lift = result.lift.as_ref().unwrap();
+    let along: Vec<f64> = lift.midfoot.iter().flatten().map(|m| m[0]).collect();
+    let centre = along.iter().sum::<f64>() / along.len() as f64;
+    let band = view.pixel([centre + 0.02, 0.3]);
+    assert!(
+        has_colour_near(&img, band, 0, BAND_RGB, 4),
+        "no band at {band:?}"
+    );
+    let beyond = view.pixel([centre + lift.band_m + 0.1, 0.3]);
+    assert!(
+        !has_colour_near(&img, beyond, 0, BAND_RGB, 4),
+        "band reaches {beyond:?}"
+    );
     // Without loads there is no side view.
     let (plain, _) = run(&sway_trial(2.0, &[]), "");
     assert!(lift_view(&plain).is_none());

@@ -16,9 +16,12 @@
 //! decimals. The XCoM is Hof et al. (2005), J Biomech 38:1-8; the margins, contact and events
 //! come from the support stage, which cites its sources.
 //!
-//! The mid-foot band: TrialResult keeps no per-frame foot points, so its centre is the mean of
-//! the footprint centroids projected on the progression direction, and its half-width
-//! [`MIDFOOT_HALF_WIDTH_M`] (0.05 m, common practice, no source).
+//! The mid-foot band of the lift figure: centred on the mean over frames of the lift stage's
+//! mid-foot (per foot in contact the midpoint between heel and metatarsal heads,
+//! [`crate::support::lift`]), projected on the progression direction, with the configured
+//! half-width (`[support] midfoot_band_m`, default 0.05 m, common practice, no source). A result
+//! without that series falls back to the mean of the footprint centroids and
+//! [`MIDFOOT_HALF_WIDTH_M`].
 //!
 //! Text is drawn with DejaVu Sans, embedded in the binary by the `dejavu` crate and registered
 //! once with plotters' `ab_glyph` text renderer, so a machine without system fonts renders
@@ -44,7 +47,8 @@ use std::sync::OnceLock;
 
 pub use style::FIGURE_SIZE_PX;
 
-/// Half-width of the mid-foot band of the lift figure, metres (common practice, no source).
+/// Half-width of the mid-foot band when the result has no lift series, metres (common practice,
+/// no source; the lift stage's default is the same).
 pub const MIDFOOT_HALF_WIDTH_M: f64 = 0.05;
 
 /// Image format of a figure.

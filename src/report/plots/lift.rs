@@ -59,18 +59,48 @@ fn centroid(v: &[[f64; 2]]) -> Option<[f64; 2]> {
     }
 }
 
-/// Centre of the mid-foot band along the view direction: the mean of the footprint centroids
-/// (module doc of `plots`), or `None` without footprints.
-fn midfoot_m(r: &TrialResult) -> Option<f64> {
+/// Where the mid-foot band comes from.
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum BandSource {
+    /// The lift stage's per-frame mid-foot (heel to metatarsal heads of the feet in contact).
+    Midfoot,
+    /// The footprint centroids (no per-frame mid-foot).
+    Footprints,
+}
+
+/// The mid-foot band along the view direction: centre, half-width (metres) and source. The
+/// centre is the mean over frames of the lift stage's mid-foot; without one, the mean of the
+/// footprint centroids with [`MIDFOOT_HALF_WIDTH_M`].
+fn band(r: &TrialResult) -> Option<(f64, f64, BandSource)> {
     let d = direction(r);
-    let along: Vec<f64> = r
+    let along = |h: [f64; 2]| h[0] * d[0] + h[1] * d[1];
+    let mean = |v: Vec<f64>| (!v.is_empty()).then(|| v.iter().sum::<f64>() / v.len() as f64);
+    let finite = |w: f64| w.is_finite() && w > 0.0;
+    if let Some(lift) = &r.lift {
+        let per_frame: Vec<f64> = lift
+            .midfoot
+            .iter()
+            .flatten()
+            .map(|m| along(r.up_axis.horizontal(m)))
+            .filter(|v| v.is_finite())
+            .collect();
+        if let Some(c) = mean(per_frame) {
+            let half = if finite(lift.band_m) {
+                lift.band_m
+            } else {
+                MIDFOOT_HALF_WIDTH_M
+            };
+            return Some((c, half, BandSource::Midfoot));
+        }
+    }
+    let prints: Vec<f64> = r
         .support
         .footprints
         .iter()
         .filter_map(|(_, _, v)| centroid(v))
-        .map(|c| c[0] * d[0] + c[1] * d[1])
+        .map(along)
         .collect();
-    (!along.is_empty()).then(|| along.iter().sum::<f64>() / along.len() as f64)
+    mean(prints).map(|c| (c, MIDFOOT_HALF_WIDTH_M, BandSource::Footprints))
 }
 
 /// The figure's pixel transform (see [`super::lift_view`]).
@@ -90,9 +120,9 @@ pub(super) fn view(r: &TrialResult) -> Option<PlaneView> {
             b.add(p);
         }
     }
-    if let Some(m) = midfoot_m(r) {
-        b.add((m - MIDFOOT_HALF_WIDTH_M, 0.0));
-        b.add((m + MIDFOOT_HALF_WIDTH_M, 0.0));
+    if let Some((m, half, _)) = band(r) {
+        b.add((m - half, 0.0));
+        b.add((m + half, 0.0));
     }
     b.add((b.x.0, 0.0));
     let (x_px, y_px) = style::single_plot_px();
@@ -147,12 +177,9 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     let (x, y) = (view.x_m.clone(), view.y_m.clone());
     let mut legend = Vec::new();
 
-    let band = midfoot_m(r);
-    if let Some(m) = band {
-        let (a, b) = (
-            (m - MIDFOOT_HALF_WIDTH_M).max(x.start),
-            (m + MIDFOOT_HALF_WIDTH_M).min(x.end),
-        );
+    let band = band(r);
+    if let Some((m, half, _)) = band {
+        let (a, b) = ((m - half).max(x.start), (m + half).min(x.end));
         chart.draw_series([Rectangle::new(
             [(a, y.end), (b, y.start)],
             BAND.mix(0.16).filled(),
@@ -244,11 +271,18 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         ));
     }
     match band {
-        Some(_) => legend.push(Entry::new(
+        Some((_, half, BandSource::Midfoot)) => legend.push(Entry::new(
             Swatch::Patch(BAND, 0.16),
-            format!("mid-foot band: mean footprint centre ± {MIDFOOT_HALF_WIDTH_M:.2} m"),
+            format!("mid-foot band: mean mid-foot ± {half:.2} m"),
         )),
-        None => legend.push(Entry::new(Swatch::Note, "no footprints: no mid-foot band")),
+        Some((_, half, BandSource::Footprints)) => legend.push(Entry::new(
+            Swatch::Patch(BAND, 0.16),
+            format!("mid-foot band: mean footprint centre ± {half:.2} m"),
+        )),
+        None => legend.push(Entry::new(
+            Swatch::Note,
+            "no foot in contact: no mid-foot band",
+        )),
     }
     if y.start < 0.0 {
         legend.push(Entry::new(Swatch::Line(style::INK, 2), "floor"));

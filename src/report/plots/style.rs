@@ -315,8 +315,8 @@ pub fn draw_axes<DB: DrawingBackend>(
     let mut mesh = chart.configure_mesh();
     mesh.x_label_formatter(&tick)
         .y_label_formatter(&tick)
-        .x_labels(10)
-        .y_labels(8)
+        .x_labels(14)
+        .y_labels(10)
         .label_style(text(TICK_PX, &INK))
         .axis_desc_style(text(AXIS_TITLE_PX, &INK))
         .axis_style(INK.stroke_width(1))
