@@ -235,14 +235,12 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         bar.first().and_then(|b| b.first()),
         bar.last().and_then(|b| b.last()),
     ) {
-        // The end square first: when the bar returns to its start, the start dot shows on it.
-        let (ex, ey) = chart.backend_coord(end);
-        let square = [(ex - 8, ey - 8), (ex + 8, ey + 8)];
-        root.draw(&Rectangle::new(square, style::BAR.filled()))?;
-        root.draw(&Rectangle::new(square, style::PAPER.stroke_width(2)))?;
-        let (sx, sy) = chart.backend_coord(start);
-        root.draw(&Circle::new((sx, sy), 5, style::BAR.filled()))?;
-        root.draw(&Circle::new((sx, sy), 5, style::PAPER.stroke_width(2)))?;
+        style::draw_ends(
+            root,
+            chart.backend_coord(start),
+            chart.backend_coord(end),
+            style::INK,
+        )?;
     }
 
     if bar.is_empty() {
@@ -255,8 +253,8 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             Swatch::Line(style::BAR, 3),
             format!("bar path (load `{load}`)"),
         ));
-        legend.push(Entry::new(Swatch::Dot(style::BAR), "bar at the start"));
-        legend.push(Entry::new(Swatch::Square(style::BAR), "bar at the end"));
+        legend.push(Entry::new(Swatch::Ring(style::INK), "bar at the start"));
+        legend.push(Entry::new(Swatch::Box(style::INK), "bar at the end"));
     }
     legend.push(Entry::new(
         Swatch::Line(style::COM, 2),

@@ -158,29 +158,126 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     let first = com_runs.first().and_then(|run| run.first()).copied();
     let last = com_runs.last().and_then(|run| run.last()).copied();
     if let (Some(start), Some(end)) = (first, last) {
-        // The end square first: when the path ends where it began, the start dot shows on it.
-        let (ex, ey) = chart.backend_coord(&end);
-        let square = root_square(ex, ey, 8);
-        root.draw(&Rectangle::new(square, style::INK.filled()))?;
-        root.draw(&Rectangle::new(square, style::PAPER.stroke_width(2)))?;
-        chart.draw_series([
-            Circle::new(start, 6, style::INK.filled()),
-            Circle::new(start, 6, style::PAPER.stroke_width(2)),
-        ])?;
-        legend.push(Entry::new(Swatch::Dot(style::INK), "start of the CoM path"));
+        style::draw_ends(
+            root,
+            chart.backend_coord(&start),
+            chart.backend_coord(&end),
+            style::INK,
+        )?;
         legend.push(Entry::new(
-            Swatch::Square(style::INK),
-            "end of the CoM path",
+            Swatch::Ring(style::INK),
+            "start of the CoM path",
         ));
+        legend.push(Entry::new(Swatch::Box(style::INK), "end of the CoM path"));
     }
     legend.push(Entry::new(
         Swatch::Note,
         "view from above; equal scale on both axes",
     ));
-    style::draw_legend(&legend_area, (style::MARGIN + 4) as i32, None, &legend)?;
+    let used = style::draw_legend(&legend_area, (style::MARGIN + 4) as i32, None, &legend)?;
+    draw_inset(
+        &legend_area,
+        (style::MARGIN + 4) as i32 + used + 16,
+        &view,
+        &com_runs,
+        &xcom,
+    )?;
     Ok(())
 }
 
-fn root_square(x: i32, y: i32, half: i32) -> [(i32, i32); 2] {
-    [(x - half, y - half), (x + half, y + half)]
+/// Side of the magnified inset, pixels.
+const INSET_PX: i32 = 240;
+/// The inset is drawn when the CoM and XCoM paths span less than this share of the view.
+const INSET_BELOW: f64 = 0.12;
+
+/// A magnified view of a small CoM sway (quiet standing) in the legend column: equal scale,
+/// no ticks, a scale bar. Drawn only when the paths are small in the main view and the column
+/// has room below the legend.
+fn draw_inset<DB: DrawingBackend>(
+    area: &Area<DB>,
+    top: i32,
+    view: &PlaneView,
+    com: &[Vec<(f64, f64)>],
+    xcom: &[Vec<(f64, f64)>],
+) -> Result<(), RenderError> {
+    let mut b = style::Bounds::empty();
+    for p in com.iter().chain(xcom).flatten() {
+        b.add(*p);
+    }
+    let (w, h) = area.dim_in_pixel();
+    let span = (b.x.1 - b.x.0).max(b.y.1 - b.y.0);
+    let view_span = (view.x_m.end - view.x_m.start).min(view.y_m.end - view.y_m.start);
+    let heading_h = 2 * (style::LEGEND_PX as i32 + 6);
+    if b.is_empty() || span >= INSET_BELOW * view_span || top + heading_h + INSET_PX + 30 > h as i32
+    {
+        return Ok(());
+    }
+    let x0 = ((w as i32 - INSET_PX) / 2).max(0);
+    let y0 = top + heading_h;
+    let px = ((x0, x0 + INSET_PX - 1), (y0, y0 + INSET_PX - 1));
+    let (xr, yr) = style::equal_ranges(b, px.0, px.1, 0.08 * span.max(1e-4), 0.004);
+    let inset = PlaneView {
+        x_m: xr,
+        y_m: yr,
+        x_px: px.0,
+        y_px: px.1,
+    };
+    let zoom = inset.px_per_m().0 / view.px_per_m().0;
+    let note = [Entry::new(
+        Swatch::Note,
+        format!("CoM and XCoM magnified {zoom:.0} times"),
+    )];
+    style::draw_legend(area, top, None, &note)?;
+    area.draw(&Rectangle::new(
+        [(px.0 .0 - 1, px.1 .0 - 1), (px.0 .1 + 1, px.1 .1 + 1)],
+        RGBColor(170, 170, 178).stroke_width(1),
+    ))?;
+    for (runs, colour) in [(xcom, style::XCOM), (com, style::COM)] {
+        for run in runs {
+            let mut px: Vec<(i32, i32)> = Vec::with_capacity(run.len());
+            for q in run.iter().map(|p| inset.pixel([p.0, p.1])) {
+                if px.last() != Some(&q) {
+                    px.push(q);
+                }
+            }
+            style::draw_pixels(area, &px, colour, 2)?;
+        }
+    }
+    let first = com.first().and_then(|r| r.first());
+    let last = com.last().and_then(|r| r.last());
+    if let (Some(s), Some(e)) = (first, last) {
+        let (s, e) = (inset.pixel([s.0, s.1]), inset.pixel([e.0, e.1]));
+        area.draw(&Rectangle::new(
+            [(e.0 - 6, e.1 - 6), (e.0 + 6, e.1 + 6)],
+            style::INK.stroke_width(2),
+        ))?;
+        area.draw(&Circle::new(s, 7, style::INK.stroke_width(2)))?;
+    }
+    // Scale bar: the round length nearest a quarter of the inset's width.
+    let width_m = inset.x_m.end - inset.x_m.start;
+    let bar_m = [0.001, 0.002, 0.005, 0.01, 0.02, 0.05, 0.1]
+        .into_iter()
+        .min_by(|a, b| {
+            ((a / width_m) - 0.25)
+                .abs()
+                .total_cmp(&((b / width_m) - 0.25).abs())
+        })
+        .unwrap_or(0.01);
+    let bar_px = (bar_m * inset.px_per_m().0).round() as i32;
+    let (bx, by) = (px.0 .0 + 10, px.1 .1 + 18);
+    area.draw(&PathElement::new(
+        vec![(bx, by), (bx + bar_px, by)],
+        style::INK.stroke_width(3),
+    ))?;
+    let label = if bar_m < 0.01 {
+        format!("{:.0} mm", bar_m * 1000.0)
+    } else {
+        format!("{:.0} cm", bar_m * 100.0)
+    };
+    area.draw(&Text::new(
+        label,
+        (bx + bar_px + 8, by - 8),
+        style::text(style::LEGEND_PX, &style::INK),
+    ))?;
+    Ok(())
 }

@@ -141,8 +141,10 @@ pub enum Swatch {
     Patch(RGBColor, f64),
     /// An unfilled outline.
     Outline(RGBColor, f64),
-    Dot(RGBColor),
-    Square(RGBColor),
+    /// A hollow circle (a start mark).
+    Ring(RGBColor),
+    /// A hollow square (an end mark).
+    Box(RGBColor),
     /// No swatch: a note in the legend's muted colour.
     Note,
 }
@@ -257,10 +259,10 @@ fn draw_swatch<DB: DrawingBackend>(
             [(x, y - 8), (x + SWATCH_W, y + 8)],
             c.mix(alpha).stroke_width(1),
         ))?,
-        Swatch::Dot(c) => area.draw(&Circle::new((x + SWATCH_W / 2, y), 6, c.filled()))?,
-        Swatch::Square(c) => area.draw(&Rectangle::new(
+        Swatch::Ring(c) => area.draw(&Circle::new((x + SWATCH_W / 2, y), 6, c.stroke_width(2)))?,
+        Swatch::Box(c) => area.draw(&Rectangle::new(
             [(x + SWATCH_W / 2 - 6, y - 6), (x + SWATCH_W / 2 + 6, y + 6)],
-            c.filled(),
+            c.stroke_width(2),
         ))?,
         Swatch::Note => {}
     }
@@ -357,20 +359,34 @@ pub fn draw_line<DB: DrawingBackend>(
     width: u32,
 ) -> Result<(), RenderError> {
     let px = pixels(chart, run);
-    let plain = chart.plotting_area().strip_coord_spec();
+    draw_pixels(
+        &chart.plotting_area().strip_coord_spec(),
+        &px,
+        colour,
+        width,
+    )
+}
+
+/// Draws a line through pixels of `area` (no repeated neighbours), as [`draw_line`] does.
+pub fn draw_pixels<DB: DrawingBackend>(
+    area: &Area<DB>,
+    px: &[(i32, i32)],
+    colour: RGBColor,
+    width: u32,
+) -> Result<(), RenderError> {
     let style = colour.stroke_width(width);
-    if let [only] = px.as_slice() {
-        plain.draw(&Circle::new(*only, width.max(2), colour.filled()))?;
+    if let [only] = px {
+        area.draw(&Circle::new(*only, width.max(2), colour.filled()))?;
         return Ok(());
     }
     if width <= 1 {
-        plain.draw(&PathElement::new(px, style))?;
+        area.draw(&PathElement::new(px.to_vec(), style))?;
         return Ok(());
     }
     let mut start = 0;
     while start + 1 < px.len() {
         let end = (start + PIECE).min(px.len() - 1);
-        plain.draw(&PathElement::new(px[start..=end].to_vec(), style))?;
+        area.draw(&PathElement::new(px[start..=end].to_vec(), style))?;
         start = end;
     }
     Ok(())
@@ -409,6 +425,22 @@ pub fn draw_dashed<DB: DrawingBackend>(
         6,
         colour.stroke_width(width),
     ))?;
+    Ok(())
+}
+
+/// Start and end marks of a path, in figure pixels: a hollow circle and a hollow square, so the
+/// path stays visible through them.
+pub fn draw_ends<DB: DrawingBackend>(
+    root: &Area<DB>,
+    start: (i32, i32),
+    end: (i32, i32),
+    colour: RGBColor,
+) -> Result<(), RenderError> {
+    root.draw(&Rectangle::new(
+        [(end.0 - 7, end.1 - 7), (end.0 + 7, end.1 + 7)],
+        colour.stroke_width(2),
+    ))?;
+    root.draw(&Circle::new(start, 8, colour.stroke_width(2)))?;
     Ok(())
 }
 
