@@ -9,7 +9,7 @@ use gravline::anthropometry::{SegmentTable, Sex};
 use gravline::config::{Config, RawConfig, Subject};
 use gravline::pipeline::{run_trial, RunOptions, TrialResult};
 use gravline::report::plots::{
-    lift_view, path_view, write_plots, PlaneView, PlotFormat, FIGURE_SIZE_PX,
+    lift_view, path_view, series_view, write_plots, PlaneView, PlotFormat, FIGURE_SIZE_PX,
 };
 use gravline::report::Summary;
 use gravline::trial::{RawMarkers, Trial, UpAxis};
@@ -117,6 +117,65 @@ fn sway_trial(seconds: f64, extra: &[(&str, Track)]) -> Trial {
     }
 }
 
+/// A crude walk (invented kinematics): the body moves forward at 1.18 m/s with a 2 cm bob and
+/// sway; each foot stands still for 60 % of a 1.1 s stride and swings 1.3 m forward, 8 cm up,
+/// in the rest, the right foot half a stride after the left. Knees sit midway between hip
+/// height and ankle.
+fn walk_trial(seconds: f64) -> Trial {
+    const STRIDE_S: f64 = 1.1;
+    const STRIDE_M: f64 = 1.3;
+    let n = (seconds * RATE_HZ) as usize;
+    let times_s: Vec<f64> = (0..n).map(|i| i as f64 / RATE_HZ).collect();
+    let foot = |t: f64, offset: f64| -> [f64; 2] {
+        let cycle = t / STRIDE_S + offset;
+        let (k, phase) = (cycle.floor(), cycle - cycle.floor());
+        let swing = ((phase - 0.6) / 0.4).clamp(0.0, 1.0);
+        let along = 0.5 - 0.5 * (std::f64::consts::PI * swing).cos();
+        let lift = if phase > 0.6 {
+            0.08 * (std::f64::consts::PI * swing).sin()
+        } else {
+            0.0
+        };
+        [STRIDE_M * (k + along - offset) + 0.3, lift]
+    };
+    let mut labels = Vec::new();
+    let mut tracks = Vec::new();
+    for (name, p) in standing_points() {
+        let left = name.starts_with("l_");
+        let track = times_s
+            .iter()
+            .map(|&t| {
+                let body_x = STRIDE_M * t / STRIDE_S;
+                let bob = 0.02 * (TAU * 2.0 * t / STRIDE_S).cos();
+                let sway = 0.02 * (TAU * t / STRIDE_S).cos();
+                let f = foot(t, if left { 0.0 } else { 0.5 });
+                if is_foot(&name) {
+                    Some([p[0] + f[0], p[1], p[2] + f[1]])
+                } else if name.contains("knee") {
+                    Some([
+                        p[0] + (body_x + f[0]) / 2.0,
+                        p[1] + sway / 2.0,
+                        p[2] + bob / 2.0 + f[1],
+                    ])
+                } else {
+                    Some([p[0] + body_x, p[1] + sway, p[2] + bob])
+                }
+            })
+            .collect();
+        labels.push(name);
+        tracks.push(track);
+    }
+    Trial {
+        name: "walk".into(),
+        file: "walk.csv".into(),
+        times_s,
+        rate_hz: RATE_HZ,
+        up_axis: UpAxis::Z,
+        markers: RawMarkers { labels, tracks },
+        warnings: Vec::new(),
+    }
+}
+
 /// Bar height of a press: from 0.9 m up to 1.9 m and back over 4 s, drifting 3 cm forward.
 fn bar_at(t: f64, y: f64) -> [f64; 3] {
     let u = 0.5 - 0.5 * (TAU * t / 4.0).cos();
@@ -194,6 +253,9 @@ fn inside(view: &PlaneView, (x, y): (i32, i32)) -> bool {
 /// The colours of the CoM line and the bar path (plots::style).
 const COM_RGB: [u8; 3] = [24, 72, 150];
 const BAR_RGB: [u8; 3] = [196, 28, 72];
+/// The side colours (132, 62, 170) and (18, 140, 108) at 55 % over white.
+const LEFT_RGB: [u8; 3] = [187, 149, 208];
+const RIGHT_RGB: [u8; 3] = [125, 192, 174];
 /// The band's (70, 150, 90) at 16 % over white.
 const BAND_RGB: [u8; 3] = [225, 238, 229];
 
@@ -217,11 +279,19 @@ fn a_standing_trial_gets_a_path_and_a_series_figure_in_both_formats() {
 
 #[test]
 fn the_com_path_is_drawn_where_the_top_view_maps_it() {
-    let (result, summary) = run(&sway_trial(5.0, &[]), "");
+    com_path_on_its_pixels(&sway_trial(5.0, &[]), |size| size == FIGURE_SIZE_PX);
+    // A walk is a wide view: a shorter figure with the legend below, same equal scale.
+    com_path_on_its_pixels(&walk_trial(4.5), |(w, h)| w == FIGURE_SIZE_PX.0 && h < 700);
+}
+
+fn com_path_on_its_pixels(trial: &Trial, size_ok: fn((u32, u32)) -> bool) {
+    let (result, summary) = run(trial, "");
     let dir = tempfile::tempdir().unwrap();
     write_plots(dir.path(), &result, &summary, PlotFormat::Png).unwrap();
     let img = image::open(dir.path().join("path.png")).unwrap().to_rgb8();
     let view = path_view(&result).unwrap();
+    assert!(size_ok(view.size_px), "{:?}", view.size_px);
+    assert_eq!((img.width(), img.height()), view.size_px);
     // One metre is the same number of pixels on both axes (1e-9 relative).
     let (px_x, px_y) = view.px_per_m();
     assert_relative_eq!(px_x, px_y, max_relative = 1e-9);
@@ -286,6 +356,46 @@ fn the_series_figure_has_drawn_pixels_in_each_panel_and_a_break_at_the_gap() {
             .filter(|&(x, y)| near(img.get_pixel(x, y).0, COM_RGB, 30))
             .count();
         assert!(count > 300, "panel {k}: only {count} CoM-coloured pixels");
+    }
+}
+
+#[test]
+fn gait_events_are_vertical_marks_at_their_times_in_every_panel() {
+    let (result, summary) = run(&walk_trial(4.5), "");
+    let events = &result.support.events;
+    assert!(
+        events.iter().all(|e| e.heel_strikes.len() >= 2),
+        "{events:?}"
+    );
+    let dir = tempfile::tempdir().unwrap();
+    write_plots(dir.path(), &result, &summary, PlotFormat::Png).unwrap();
+    let img = image::open(dir.path().join("series.png"))
+        .unwrap()
+        .to_rgb8();
+    let view = series_view(&result);
+    // Each heel strike: a column in the side's colour (drawn at 55 % over the white) crossing
+    // most of every panel's rows.
+    for (side, rgb) in [(0, LEFT_RGB), (1, RIGHT_RGB)] {
+        for &f in &events[side].heel_strikes {
+            let x = view.column(result.times_s[f]);
+            for (top, bottom) in view.panels_px {
+                let rows = top..=bottom;
+                let hits = rows
+                    .clone()
+                    .filter(|&y| has_colour_near(&img, (x, y), 1, rgb, 12))
+                    .count();
+                assert!(
+                    hits * 2 > rows.count(),
+                    "side {side} frame {f}: {hits} rows at x = {x}"
+                );
+            }
+        }
+    }
+    // The SVG names the events in its legend.
+    write_plots(dir.path(), &result, &summary, PlotFormat::Svg).unwrap();
+    let texts = svg_texts(&std::fs::read_to_string(dir.path().join("series.svg")).unwrap());
+    for label in ["left heel strike", "right toe-off"] {
+        assert!(texts.iter().any(|t| t == label), "{label}: {texts:?}");
     }
 }
 

@@ -3,7 +3,9 @@
 //!
 //! - `path.png|svg`: top view of the floor plane (the two horizontal axes of the lab, named as in
 //!   the input), equal scale in metres: CoM and XCoM paths, BoS outlines, footprints per side,
-//!   start and end marks ([`path_view`] gives its pixel transform).
+//!   start and end marks ([`path_view`] gives its pixel transform). A view much wider than tall
+//!   (a walk) gets a shorter figure with the legend below; a small sway (quiet standing) gets a
+//!   magnified inset with a scale bar.
 //! - `series.png|svg`: three panels over one time axis in seconds: CoM speed with its
 //!   horizontal and vertical components (m/s); BoS margin and MoS (m) with the zero line and the
 //!   spans with the CoM outside the BoS shaded; CoM height above the floor (m). Heel strikes
@@ -112,6 +114,8 @@ pub struct PlaneView {
     pub x_px: (i32, i32),
     /// Top and bottom pixel row of the plotting area.
     pub y_px: (i32, i32),
+    /// Size of the figure, pixels (wide views get a shorter figure with the legend below).
+    pub size_px: (u32, u32),
 }
 
 impl PlaneView {
@@ -142,6 +146,23 @@ fn map_axis(v: f64, range: &Range<f64>, limit: (i32, i32)) -> i32 {
     } else {
         limit.0 + (length * logic - 1e-3).ceil() as i32
     }
+}
+
+/// The pixel layout of the `series` figure: its shared time axis and the rows of its three
+/// panels (speed, margins, height), in figure pixels, first to last inclusive.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SeriesView {
+    /// Time range, seconds (left to right).
+    pub t_s: Range<f64>,
+    /// Leftmost and rightmost pixel column of every panel's plotting area.
+    pub x_px: (i32, i32),
+    /// Top and bottom pixel row of each panel's plotting area, top panel first.
+    pub panels_px: [(i32, i32); 3],
+}
+
+/// The layout of the `series` figure of a result.
+pub fn series_view(result: &TrialResult) -> SeriesView {
+    series::view(result)
 }
 
 /// The view of the `path` figure, or `None` when no frame has a CoM.
@@ -229,6 +250,15 @@ impl From<RenderError> for std::io::Error {
 
 pub(crate) type Area<DB> = DrawingArea<DB, Shift>;
 
+/// Size of a figure, pixels: the series and lift figures are [`FIGURE_SIZE_PX`]; the path
+/// figure of a wide view is shorter, with its legend below.
+fn figure_size(figure: Figure, ctx: &style::Context) -> (u32, u32) {
+    match figure {
+        Figure::Path => path::layout(ctx.result).size(),
+        Figure::Series | Figure::Lift => FIGURE_SIZE_PX,
+    }
+}
+
 fn draw<DB: DrawingBackend>(
     figure: Figure,
     root: &Area<DB>,
@@ -254,11 +284,12 @@ fn render(
     format: PlotFormat,
     ctx: &style::Context,
 ) -> std::io::Result<()> {
+    let size = figure_size(figure, ctx);
     match format {
         PlotFormat::Svg => {
             let mut svg = String::new();
             {
-                let root = SVGBackend::with_string(&mut svg, FIGURE_SIZE_PX).into_drawing_area();
+                let root = SVGBackend::with_string(&mut svg, size).into_drawing_area();
                 draw(figure, &root, ctx)?;
             }
             crate::report::write_atomic(path, |w| w.write_all(svg.as_bytes()))
@@ -272,7 +303,7 @@ fn render(
             let tmp = temporary_name(path);
             let result = (|| {
                 {
-                    let root = BitMapBackend::new(&tmp, FIGURE_SIZE_PX).into_drawing_area();
+                    let root = BitMapBackend::new(&tmp, size).into_drawing_area();
                     draw(figure, &root, ctx)?;
                 }
                 std::fs::File::open(&tmp)?.sync_all()?;

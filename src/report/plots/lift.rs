@@ -125,13 +125,15 @@ pub(super) fn view(r: &TrialResult) -> Option<PlaneView> {
         b.add((m + half, 0.0));
     }
     b.add((b.x.0, 0.0));
-    let (x_px, y_px) = style::single_plot_px();
+    let (x_px, y_px) = style::Layout::Side.plot_px();
     let (x_m, y_m) = style::equal_ranges(b, x_px, y_px, PAD_M, MIN_SPAN_M);
+    let size_px = style::Layout::Side.size();
     Some(PlaneView {
         x_m,
         y_m,
         x_px,
         y_px,
+        size_px,
     })
 }
 
@@ -160,7 +162,7 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             "no valid frames or no load: nothing to plot".to_string(),
         ));
     };
-    let (title_area, chart_area, legend_area) = style::single_layout(root);
+    let (title_area, chart_area, legend_area) = style::Layout::Side.split(root);
     style::draw_title(
         &title_area,
         &format!("{}: bar and CoM paths, side view", r.name),

@@ -18,8 +18,8 @@ fn floor_points(r: &TrialResult, series: &[Option<[f64; 3]>]) -> Vec<Option<(f64
         .collect()
 }
 
-/// The figure's pixel transform (see [`super::path_view`]).
-pub(super) fn view(r: &TrialResult) -> Option<PlaneView> {
+/// Bounds of everything the figure draws, or `None` without a valid CoM.
+fn bounds(r: &TrialResult) -> Option<style::Bounds> {
     let mut b = style::Bounds::empty();
     for p in floor_points(r, &r.com).into_iter().flatten() {
         b.add(p);
@@ -39,13 +39,33 @@ pub(super) fn view(r: &TrialResult) -> Option<PlaneView> {
     for v in polygons.flatten() {
         b.add((v[0], v[1]));
     }
-    let (x_px, y_px) = style::single_plot_px();
+    Some(b)
+}
+
+/// The figure's layout: legend below for a view much wider than tall (a walk along the first
+/// horizontal axis), else beside.
+pub(super) fn layout(r: &TrialResult) -> style::Layout {
+    match bounds(r) {
+        Some(b) => style::Layout::for_spans(
+            (b.x.1 - b.x.0 + 2.0 * PAD_M).max(MIN_SPAN_M),
+            (b.y.1 - b.y.0 + 2.0 * PAD_M).max(MIN_SPAN_M),
+        ),
+        None => style::Layout::Side,
+    }
+}
+
+/// The figure's pixel transform (see [`super::path_view`]).
+pub(super) fn view(r: &TrialResult) -> Option<PlaneView> {
+    let b = bounds(r)?;
+    let layout = layout(r);
+    let (x_px, y_px) = layout.plot_px();
     let (x_m, y_m) = style::equal_ranges(b, x_px, y_px, PAD_M, MIN_SPAN_M);
     Some(PlaneView {
         x_m,
         y_m,
         x_px,
         y_px,
+        size_px: layout.size(),
     })
 }
 
@@ -62,7 +82,8 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     let Some(view) = view(r) else {
         return Err(RenderError("no valid frames: nothing to plot".to_string()));
     };
-    let (title_area, chart_area, legend_area) = style::single_layout(root);
+    let layout = layout(r);
+    let (title_area, chart_area, legend_area) = layout.split(root);
     style::draw_title(
         &title_area,
         &format!("{}: CoM path over the floor, top view", r.name),
@@ -174,14 +195,11 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         Swatch::Note,
         "view from above; equal scale on both axes",
     ));
-    let used = style::draw_legend(&legend_area, (style::MARGIN + 4) as i32, None, &legend)?;
-    draw_inset(
-        &legend_area,
-        (style::MARGIN + 4) as i32 + used + 16,
-        &view,
-        &com_runs,
-        &xcom,
-    )?;
+    let used = layout.draw_legend(&legend_area, &legend)?;
+    if layout == style::Layout::Side {
+        let top = (style::MARGIN + 4) as i32 + used + 16;
+        draw_inset(&legend_area, top, &view, &com_runs, &xcom)?;
+    }
     Ok(())
 }
 
@@ -221,6 +239,7 @@ fn draw_inset<DB: DrawingBackend>(
         y_m: yr,
         x_px: px.0,
         y_px: px.1,
+        size_px: (w, h),
     };
     let zoom = inset.px_per_m().0 / view.px_per_m().0;
     let note = [Entry::new(

@@ -3,7 +3,7 @@
 //! vertical marks in every panel.
 
 use super::style::{self, Chart, Context, Entry, Swatch};
-use super::{Area, RenderError};
+use super::{map_axis, Area, RenderError, SeriesView};
 use crate::pipeline::TrialResult;
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
@@ -21,6 +21,31 @@ fn panel_rows() -> [u32; PANELS] {
     let plot_h = (body - PANELS as u32 * 2 * PANEL_MARGIN - style::X_LABEL_H) / PANELS as u32;
     let step = plot_h + 2 * PANEL_MARGIN;
     [0, step, 2 * step]
+}
+
+/// The pixel layout of the `series` figure (see [`super::series_view`]).
+pub(super) fn view(r: &TrialResult) -> SeriesView {
+    let (w, h) = style::FIGURE_SIZE_PX;
+    let tops = panel_rows();
+    let x_px = (
+        (style::MARGIN + style::Y_LABEL_W) as i32,
+        (w - style::LEGEND_W - style::MARGIN) as i32 - 1,
+    );
+    let mut panels_px = [(0, 0); PANELS];
+    for (k, rows) in panels_px.iter_mut().enumerate() {
+        let area_top = style::TITLE_H + tops[k];
+        let area_bottom = tops.get(k + 1).map_or(h, |t| style::TITLE_H + t);
+        let labels = if k + 1 == PANELS { style::X_LABEL_H } else { 0 };
+        *rows = (
+            (area_top + PANEL_MARGIN) as i32,
+            (area_bottom - PANEL_MARGIN - labels) as i32 - 1,
+        );
+    }
+    SeriesView {
+        t_s: time_range(r),
+        x_px,
+        panels_px,
+    }
 }
 
 fn time_range(r: &TrialResult) -> Range<f64> {
@@ -107,6 +132,7 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     let tops = panel_rows();
     let panels = body.split_by_breakpoints([w - style::LEGEND_W], [tops[1], tops[2]]);
     let t = time_range(r);
+    let layout = view(r);
     let columns = (w - style::LEGEND_W - 2 * style::MARGIN - style::Y_LABEL_W) as usize;
 
     let norm = |v: &[f64; 3]| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
@@ -203,6 +229,14 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             .x_label_area_size(if last { style::X_LABEL_H } else { 0 })
             .y_label_area_size(style::Y_LABEL_W)
             .build_cartesian_2d(t.clone(), y.clone())?;
+        debug_assert_eq!(
+            chart.plotting_area().get_pixel_range().1.start,
+            layout.panels_px[k].0
+        );
+        debug_assert_eq!(
+            chart.plotting_area().get_pixel_range().1.end - 1,
+            layout.panels_px[k].1
+        );
         style::draw_axes(&mut chart, last.then_some("time (s)"), y_desc)?;
         let mut legend: Vec<Entry> = Vec::new();
         let mut notes: Vec<Entry> = Vec::new();
@@ -270,7 +304,7 @@ fn draw_events<DB: DrawingBackend>(
     y: &Range<f64>,
 ) -> Result<(), RenderError> {
     for (side, events) in r.support.events.iter().enumerate() {
-        let colour = style::side_colour(side).mix(0.75);
+        let colour = style::side_colour(side).mix(0.55);
         let at = |f: &usize| r.times_s.get(*f).copied();
         chart.draw_series(
             events
@@ -284,6 +318,13 @@ fn draw_events<DB: DrawingBackend>(
         }))?;
     }
     Ok(())
+}
+
+impl SeriesView {
+    /// Pixel column of a time, as the plotting backend maps it.
+    pub fn column(&self, t_s: f64) -> i32 {
+        map_axis(t_s, &self.t_s, self.x_px)
+    }
 }
 
 fn event_legend(r: &TrialResult) -> Vec<Entry> {

@@ -269,30 +269,89 @@ fn draw_swatch<DB: DrawingBackend>(
     Ok(())
 }
 
-/// First and last pixel (x, then y) of the plotting area of a one-chart figure (path, lift).
-pub fn single_plot_px() -> ((i32, i32), (i32, i32)) {
-    let (w, h) = FIGURE_SIZE_PX;
-    let x = (
-        (MARGIN + Y_LABEL_W) as i32,
-        (w - LEGEND_W - MARGIN) as i32 - 1,
-    );
-    let y = (
-        (TITLE_H + MARGIN) as i32,
-        (h - MARGIN - X_LABEL_H) as i32 - 1,
-    );
-    (x, y)
+/// Where a one-chart figure (path, lift) puts its legend.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Layout {
+    /// Legend in a column right of the chart; figure [`FIGURE_SIZE_PX`].
+    Side,
+    /// Legend in two columns under a chart `chart_h` pixels tall, for wide views (a walk);
+    /// the figure is as tall as it needs.
+    Below { chart_h: u32 },
 }
 
-/// Splits a one-chart figure into its title strip, chart area and legend column.
-pub fn single_layout<DB: DrawingBackend>(root: &Area<DB>) -> (Area<DB>, Area<DB>, Area<DB>) {
-    let (w, _) = FIGURE_SIZE_PX;
-    let (title, body) = root.split_vertically(TITLE_H);
-    let (chart, legend) = body.split_horizontally(w - LEGEND_W);
-    (title, chart, legend)
+/// Height of the legend strip of [`Layout::Below`].
+pub const LEGEND_BELOW_H: u32 = 132;
+
+impl Layout {
+    /// Figure size, pixels.
+    pub fn size(self) -> (u32, u32) {
+        match self {
+            Layout::Side => FIGURE_SIZE_PX,
+            Layout::Below { chart_h } => (FIGURE_SIZE_PX.0, TITLE_H + chart_h + LEGEND_BELOW_H),
+        }
+    }
+
+    /// First and last pixel (x, then y) of the plotting area.
+    pub fn plot_px(self) -> ((i32, i32), (i32, i32)) {
+        let (w, h) = self.size();
+        let (right, bottom) = match self {
+            Layout::Side => (w - LEGEND_W, h),
+            Layout::Below { chart_h } => (w, TITLE_H + chart_h),
+        };
+        let x = ((MARGIN + Y_LABEL_W) as i32, (right - MARGIN) as i32 - 1);
+        let y = (
+            (TITLE_H + MARGIN) as i32,
+            (bottom - MARGIN - X_LABEL_H) as i32 - 1,
+        );
+        (x, y)
+    }
+
+    /// Splits the figure into its title strip, chart area and legend area.
+    pub fn split<DB: DrawingBackend>(self, root: &Area<DB>) -> (Area<DB>, Area<DB>, Area<DB>) {
+        let (title, body) = root.split_vertically(TITLE_H);
+        let (chart, legend) = match self {
+            Layout::Side => body.split_horizontally(self.size().0 - LEGEND_W),
+            Layout::Below { chart_h } => body.split_vertically(chart_h),
+        };
+        (title, chart, legend)
+    }
+
+    /// Draws the legend in its area: one column, or two side by side.
+    pub fn draw_legend<DB: DrawingBackend>(
+        self,
+        area: &Area<DB>,
+        entries: &[Entry],
+    ) -> Result<i32, RenderError> {
+        match self {
+            Layout::Side => draw_legend(area, (MARGIN + 4) as i32, None, entries),
+            Layout::Below { .. } => {
+                let (w, _) = area.dim_in_pixel();
+                let inner = area.margin(0, 0, (MARGIN + Y_LABEL_W - 10) as i32, MARGIN as i32);
+                let (left, right) = inner.split_horizontally((w - MARGIN - Y_LABEL_W) / 2);
+                let half = entries.len().div_ceil(2);
+                let (a, b) = entries.split_at(half);
+                let used = draw_legend(&left, 6, None, a)?;
+                Ok(used.max(draw_legend(&right, 6, None, b)?))
+            }
+        }
+    }
+
+    /// The one-chart layout for data spanning `span_x` by `span_y` metres: legend below when
+    /// the view is much wider than tall, so the equal scale does not squash it.
+    pub fn for_spans(span_x: f64, span_y: f64) -> Layout {
+        let ((x0, x1), _) = Layout::Below { chart_h: 0 }.plot_px();
+        if !(span_x > 2.2 * span_y && span_y > 0.0) {
+            return Layout::Side;
+        }
+        let plot_h = (f64::from(x1 - x0) * span_y / span_x).clamp(260.0, 560.0) as u32;
+        Layout::Below {
+            chart_h: plot_h + 2 * MARGIN + X_LABEL_H,
+        }
+    }
 }
 
 /// The chart of a one-chart figure over the given ranges; its plotting area is exactly
-/// [`single_plot_px`].
+/// [`Layout::plot_px`].
 pub fn single_chart<'a, DB: DrawingBackend>(
     area: &'a Area<DB>,
     x: Range<f64>,
@@ -659,19 +718,23 @@ mod tests {
     }
 
     #[test]
-    fn the_one_chart_layout_has_the_plotting_area_the_views_assume() {
-        let (w, h) = FIGURE_SIZE_PX;
-        let mut buf = vec![0u8; (w * h * 3) as usize];
-        let root = BitMapBackend::with_buffer(&mut buf, (w, h)).into_drawing_area();
-        let (_, chart_area, _) = single_layout(&root);
-        let chart = single_chart(&chart_area, 0.0..1.0, 0.0..1.0).unwrap();
-        let (xr, yr) = chart.plotting_area().get_pixel_range();
-        let (x, y) = single_plot_px();
-        assert_eq!((xr.start, xr.end - 1), x);
-        assert_eq!((yr.start, yr.end - 1), y);
-        // And plotters maps the range ends onto those pixels, as PlaneView::pixel does.
-        assert_eq!(chart.backend_coord(&(0.0, 0.0)), (x.0, y.1));
-        assert_eq!(chart.backend_coord(&(1.0, 1.0)), (x.1, y.0));
+    fn the_one_chart_layouts_have_the_plotting_areas_the_views_assume() {
+        for layout in [Layout::Side, Layout::for_spans(6.0, 0.6)] {
+            let (w, h) = layout.size();
+            let mut buf = vec![0u8; (w * h * 3) as usize];
+            let root = BitMapBackend::with_buffer(&mut buf, (w, h)).into_drawing_area();
+            let (_, chart_area, _) = layout.split(&root);
+            let chart = single_chart(&chart_area, 0.0..1.0, 0.0..1.0).unwrap();
+            let (xr, yr) = chart.plotting_area().get_pixel_range();
+            let (x, y) = layout.plot_px();
+            assert_eq!((xr.start, xr.end - 1), x);
+            assert_eq!((yr.start, yr.end - 1), y);
+            // And plotters maps the range ends onto those pixels, as PlaneView::pixel does.
+            assert_eq!(chart.backend_coord(&(0.0, 0.0)), (x.0, y.1));
+            assert_eq!(chart.backend_coord(&(1.0, 1.0)), (x.1, y.0));
+        }
+        assert_eq!(Layout::for_spans(1.0, 0.8), Layout::Side);
+        assert!(matches!(Layout::for_spans(6.0, 0.6), Layout::Below { .. }));
     }
 
     #[test]
