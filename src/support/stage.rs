@@ -350,6 +350,7 @@ fn dot(a: [f64; 2], b: [f64; 2]) -> f64 {
 }
 
 /// Gait events and steps (module doc).
+#[allow(clippy::too_many_arguments)]
 fn gait(
     out: &mut SupportSeries,
     foot: &FootFrames,
