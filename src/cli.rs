@@ -431,10 +431,10 @@ const DEMO_FILES: &[(&str, &str)] = &[
         "squat-config.toml",
         include_str!("../examples/data/squat-config.toml"),
     ),
-    (
-        "jump-config.toml",
-        include_str!("../examples/data/jump-config.toml"),
-    ),
+    ("maren.toml", include_str!("../examples/data/maren.toml")),
+    ("tobin.toml", include_str!("../examples/data/tobin.toml")),
+    ("noa.toml", include_str!("../examples/data/noa.toml")),
+    ("README.md", include_str!("../examples/data/README.md")),
 ];
 
 fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
@@ -458,6 +458,7 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
     };
     let c = col("config");
     let sub = col("subject");
+    let leg = col("leg_length_m");
     for record in reader.records() {
         let r = record?;
         let trial_path = inputs.join(&r[t]);
@@ -470,6 +471,9 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
         let mut subject =
             Subject::new(r[m].parse()?, r[h].parse()?, sex).validate("bundled manifest")?;
         subject.name = sub.map(|i| r[i].to_string());
+        if let Some(l) = leg.filter(|&l| !r[l].is_empty()) {
+            subject.leg_length_m = Some(r[l].parse()?);
+        }
         let setup = Setup::new(config(&setup_args)?, subject)?;
         let stem = Path::new(&r[t])
             .file_stem()

@@ -35,6 +35,7 @@ fn body_csv(frames: usize) -> String {
             ("heel", [-60.0, 90.0, 20.0]),
             ("toe", [200.0, 100.0, 20.0]),
             ("mt1", [140.0, 60.0, 20.0]),
+            ("mt2", [150.0, 85.0, 20.0]),
             ("mt5", [120.0, 130.0, 20.0]),
         ] {
             markers.push((format!("{s}_{stem}"), [p[0], p[1] * y, p[2]]));
@@ -210,4 +211,25 @@ fn a_missing_landmark_names_the_label_and_the_closest_ones() {
         "{stderr}"
     );
     assert!(!dir.path().join("out").exists());
+}
+
+/// The second built-in table runs on the same marker set; a standing CoM lies at 0.53-0.59 of
+/// stature (reference/methods.md 6: 0.5527, Whiplash Injuries chapter; textbooks 55-57 %).
+#[test]
+fn dempster_winter_table_runs_end_to_end() {
+    let dir = tempfile::tempdir().unwrap();
+    run_trial(
+        dir.path(),
+        "stand.csv",
+        &body_csv(20),
+        &["--table", "dempster-winter"],
+    )
+    .success();
+    let summary: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string(dir.path().join("out/stand/summary.json")).unwrap(),
+    )
+    .unwrap();
+    assert_eq!(summary["provenance"]["model"]["table"], "dempster-winter");
+    let share = summary["com"]["mean_height_of_stature"].as_f64().unwrap();
+    assert!((0.53..=0.59).contains(&share), "{share}");
 }

@@ -921,3 +921,142 @@ pub const FOOT_POINTS: [&str; 13] = [
     "r_ankle_lat",
     "mid_psis",
 ];
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::config::RawConfig;
+    use approx::assert_abs_diff_eq;
+
+    fn config(toml: &str) -> Config {
+        Config::from_raw(&RawConfig::from_toml(toml, "t").unwrap(), "t").unwrap()
+    }
+
+    /// A resolver over the labels `a`, `b`, `c` (in this order) to test point definitions alone.
+    fn eval(toml: &str, name: &str, markers: &[[f64; 3]]) -> Option<P> {
+        let labels: Vec<String> = ["a", "b", "c"].iter().map(|s| s.to_string()).collect();
+        let cfg = config(toml);
+        let subject = Subject::new(70.0, 1.7, Sex::Male);
+        let mut r = Resolver::new(&labels, "t.csv", &cfg, &subject);
+        let id = r.resolve(name).unwrap();
+        let model = points_only(r, None);
+        let frame: Vec<Option<[f64; 3]>> = markers.iter().map(|p| Some(*p)).collect();
+        let mut out = Vec::new();
+        model.evaluate(&frame, &mut out);
+        out[id]
+    }
+
+    /// A model of the resolver's points alone (no segments).
+    fn points_only(r: Resolver, leg_length_m: Option<f64>) -> BodyModel {
+        BodyModel {
+            defs: r.defs,
+            point_names: r.names,
+            segments: Vec::new(),
+            body_mass_kg: 70.0,
+            leg_length_m,
+            optional: HashMap::new(),
+            markers_used: Vec::new(),
+            warnings: Vec::new(),
+            hip: HipMethod::Harrington2007,
+            height_m: 1.7,
+            leg_markers: Vec::new(),
+        }
+    }
+
+    const ABC: [[f64; 3]; 3] = [[0.0, 0.0, 0.0], [2.0, 0.0, 0.0], [0.0, 1.0, 0.0]];
+
+    #[test]
+    fn virtual_mean_along_and_offset() {
+        let m = eval(
+            "[virtual]\nm = { mean = [\"a\", \"b\", \"c\"] }\n",
+            "m",
+            &ABC,
+        )
+        .unwrap();
+        assert_abs_diff_eq!(m, P::new(2.0 / 3.0, 1.0 / 3.0, 0.0), epsilon = 1e-12);
+        let t = eval(
+            "[virtual]\nt = { along = [\"a\", \"b\"], fraction = 1.3 }\n",
+            "t",
+            &ABC,
+        )
+        .unwrap();
+        assert_abs_diff_eq!(t, P::new(2.6, 0.0, 0.0), epsilon = 1e-12);
+        // Frame of (a, b, c): x toward b, z = x cross (c - a) = +z, y = z cross x = +y.
+        let o = eval(
+            "[virtual]\no = { frame = [\"a\", \"b\", \"c\"], offset_m = [0.1, 0.2, 0.3] }\n",
+            "o",
+            &ABC,
+        )
+        .unwrap();
+        assert_abs_diff_eq!(o, P::new(0.1, 0.2, 0.3), epsilon = 1e-12);
+    }
+
+    #[test]
+    fn a_virtual_cycle_is_an_error() {
+        let labels: Vec<String> = vec!["a".into()];
+        let cfg = config("[virtual]\nx = { mean = [\"y\"] }\ny = { mean = [\"x\"] }\n");
+        let subject = Subject::new(70.0, 1.7, Sex::Male);
+        let mut r = Resolver::new(&labels, "t.csv", &cfg, &subject);
+        let e = r.resolve("x").unwrap_err().to_string();
+        assert!(e.contains("x -> y -> x"), "{e}");
+    }
+
+    #[test]
+    fn a_mapped_label_that_is_absent_is_reported_with_closest_labels() {
+        let labels: Vec<String> = vec!["LKNE".into(), "RKNE".into()];
+        let cfg = config("[landmarks]\nl_knee_lat = \"LKNEE\"\n");
+        let subject = Subject::new(70.0, 1.7, Sex::Male);
+        let mut r = Resolver::new(&labels, "t.csv", &cfg, &subject);
+        let e = r.resolve("l_knee_lat").unwrap_err().to_string();
+        assert!(
+            e.contains("`LKNEE`") && e.contains("closest labels: LKNE"),
+            "{e}"
+        );
+    }
+
+    /// Lateral-marker-only knee: the JC lies knee_width/2 + marker radius medially, orthogonal
+    /// to the thigh (common practice; reference/methods.md 1.3).
+    #[test]
+    fn lateral_only_knee_uses_the_joint_width() {
+        let labels: Vec<String> = [
+            "l_asis",
+            "r_asis",
+            "l_psis",
+            "r_psis",
+            "l_knee_lat",
+            "l_ankle_med",
+        ]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+        let cfg = config("");
+        let mut subject = Subject::new(70.0, 1.7, Sex::Male);
+        let mut r = Resolver::new(&labels, "t.csv", &cfg, &subject);
+        let e = r.resolve("l_knee_jc").unwrap_err().to_string();
+        assert!(e.contains("knee_width_m"), "{e}");
+        subject.knee_width_m = Some(0.10);
+        subject.marker_radius_m = Some(0.007);
+        let mut r = Resolver::new(&labels, "t.csv", &cfg, &subject);
+        let id = r.resolve("l_knee_jc").unwrap();
+        assert!(r
+            .warnings
+            .iter()
+            .any(|w| w.to_string().contains("medial to l_knee_lat")));
+        let model = points_only(r, Some(0.9));
+        // Pelvis facing +x, left +y; lateral knee marker below the left hip.
+        let frame = [
+            Some([0.1, 0.125, 1.0]),
+            Some([0.1, -0.125, 1.0]),
+            Some([-0.06, 0.045, 1.0]),
+            Some([-0.06, -0.045, 1.0]),
+            Some([0.0, 0.15, 0.5]),
+            Some([0.0, 0.05, 0.07]),
+        ];
+        let mut out = Vec::new();
+        model.evaluate(&frame, &mut out);
+        let jc = out[id].unwrap();
+        let lateral = P::new(0.0, 0.15, 0.5);
+        assert_abs_diff_eq!((jc - lateral).norm(), 0.057, epsilon = 1e-12);
+        assert!(jc.y < lateral.y, "medial is toward the body's midline");
+    }
+}

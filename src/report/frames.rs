@@ -150,7 +150,7 @@ pub fn write_reps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
 pub fn write_steps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
     writeln!(
         w,
-        "side,heel_strike_s,toe_off_s,step_length_m,step_width_m,mos_ap_heel_strike_m,min_mos_ml_single_stance_m,com_vertical_excursion_m"
+        "side,heel_strike_s,toe_off_s,step_length_m,step_width_m,mos_ap_heel_strike_m,mos_ml_heel_strike_m,min_mos_ml_single_stance_m,com_vertical_excursion_m"
     )?;
     for s in &r.support.steps {
         write!(w, "{},{:.6}", s.side, s.heel_strike_s)?;
@@ -159,6 +159,7 @@ pub fn write_steps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
             s.step_length_m,
             s.step_width_m,
             s.mos_ap_heel_strike_m,
+            s.mos_ml_heel_strike_m,
             s.min_mos_ml_single_stance_m,
             s.com_vertical_excursion_m,
         ] {

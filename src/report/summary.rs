@@ -64,6 +64,7 @@ pub struct StepMeans {
     pub step_length_m: Option<f64>,
     pub step_width_m: Option<f64>,
     pub mos_ap_heel_strike_m: Option<f64>,
+    pub mos_ml_heel_strike_m: Option<f64>,
     pub min_mos_ml_single_stance_m: Option<f64>,
     pub com_vertical_excursion_m: Option<f64>,
 }
@@ -193,6 +194,7 @@ impl Summary {
                     step_length_m: mean(of().filter_map(|st| st.step_length_m)),
                     step_width_m: mean(of().filter_map(|st| st.step_width_m)),
                     mos_ap_heel_strike_m: mean(of().filter_map(|st| st.mos_ap_heel_strike_m)),
+                    mos_ml_heel_strike_m: mean(of().filter_map(|st| st.mos_ml_heel_strike_m)),
                     min_mos_ml_single_stance_m: mean(
                         of().filter_map(|st| st.min_mos_ml_single_stance_m),
                     ),

@@ -17,7 +17,9 @@
 //!   [`STATIC_SPEED_M_S`]) the mean heel-to-toe direction of the feet.
 //! - Events: Zeni et al. 2008 (Gait Posture 27:710) with the sacrum at the PSIS midpoint (or the
 //!   sacral marker). Steps: one per heel strike, with step length and width between the two
-//!   heels at heel strike, AP MoS at heel strike, the minimum ML MoS in the single stance that
+//!   heels at heel strike, AP MoS at heel strike (the leading heel, the front of the BoS as the
+//!   heel lands, minus the XCoM along progression; Hof et al. 2005), the minimum ML MoS in the
+//!   single stance that
 //!   follows (contralateral toe-off to contralateral heel strike) and the CoM vertical excursion
 //!   over the stride that starts there.
 //!
@@ -116,7 +118,12 @@ pub struct Step {
     pub step_length_m: Option<f64>,
     /// Heel-to-heel distance across progression at heel strike.
     pub step_width_m: Option<f64>,
+    /// Landing heel minus XCoM along progression: negative when the XCoM is ahead of the heel
+    /// (the usual case in walking); the backward MoS of Hak et al. 2013 is its negative.
     pub mos_ap_heel_strike_m: Option<f64>,
+    /// Lateral border of the landing foot minus the XCoM, outward from the body's midline, at
+    /// heel strike (Hof et al. 2007 measure it at foot contact).
+    pub mos_ml_heel_strike_m: Option<f64>,
     pub min_mos_ml_single_stance_m: Option<f64>,
     /// Vertical CoM range from this heel strike to the same foot's next one.
     pub com_vertical_excursion_m: Option<f64>,
@@ -285,7 +292,7 @@ pub fn analyse(
     }
     if let Some(prog) = out.progression {
         if !static_trial && !foot.sacrum.is_empty() {
-            gait(&mut out, foot, com, up, times_s, rate_hz, prog);
+            gait(&mut out, foot, com, xcom, up, times_s, rate_hz, prog);
         }
     }
     out
@@ -343,10 +350,12 @@ fn dot(a: [f64; 2], b: [f64; 2]) -> f64 {
 }
 
 /// Gait events and steps (module doc).
+#[allow(clippy::too_many_arguments)]
 fn gait(
     out: &mut SupportSeries,
     foot: &FootFrames,
     com: &[Option<[f64; 3]>],
+    xcom: &[Option<[f64; 3]>],
     up: UpAxis,
     times_s: &[f64],
     rate_hz: f64,
@@ -374,6 +383,7 @@ fn gait(
         out.events[side] = zeni_events(&along(side, HEEL), &along(side, toe), rate_hz);
     }
     let ml = [-prog[1], prog[0]];
+    let xcom_h = |f: usize| xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
     let time = |f: usize| times_s.get(f).copied().unwrap_or(f as f64 / rate_hz);
     let mut steps = Vec::new();
     for side in 0..2 {
@@ -422,7 +432,18 @@ fn gait(
                 toe_off_s: toe_off.map(time),
                 step_length_m: d.map(|d| dot(d, prog).abs()),
                 step_width_m: d.map(|d| dot(d, ml).abs()),
-                mos_ap_heel_strike_m: out.mos_ap_m.get(f).copied().flatten(),
+                mos_ap_heel_strike_m: xcom_h(f)
+                    .zip(heel)
+                    .map(|(xi, h)| dot(h, prog) - dot(xi, prog)),
+                mos_ml_heel_strike_m: xcom_h(f).and_then(|xi| {
+                    // Outward: +ml (left of progression) for the left foot, -ml for the right.
+                    let out = if side == 0 { ml } else { [-ml[0], -ml[1]] };
+                    let border = (0..FOOT_STEMS.len())
+                        .filter_map(|k| foot.at(side, k, f))
+                        .map(|p| dot(up.horizontal(&p), out))
+                        .reduce(f64::max)?;
+                    Some(border - dot(xi, out))
+                }),
                 min_mos_ml_single_stance_m: min_ml,
                 com_vertical_excursion_m: excursion,
             });
