@@ -1,6 +1,5 @@
-//! Batch benchmark (DESIGN.md 12): `gravline batch` on synthetic trials (invented data: a
-//! standing body of 31 landmarks plus 14 technical markers, 45 in all, swaying as an inverted
-//! pendulum; 30 s at 100 Hz, millimetres).
+//! Batch benchmark (DESIGN.md 12): `gravline batch` on synthetic trials (invented data:
+//! `gravline::synth::long_trial`, a walk of 30 s at 100 Hz with 45 markers, millimetres).
 //!
 //! Measures, on the release binary, without plots:
 //! - wall time of 200 trials with `--jobs 1` and with `--jobs 2`, and the speed-up (target at
@@ -23,76 +22,15 @@ const RATE_HZ: f64 = 100.0;
 const DURATION_S: f64 = 30.0;
 const MARKERS: usize = 45;
 
-/// The standing body (mm, +z up): the landmarks the default model needs, then technical markers
-/// (thigh and shank clusters, upper back) up to `MARKERS`. Invented.
-fn markers() -> Vec<(String, [f64; 3])> {
-    let mut m: Vec<(String, [f64; 3])> = vec![
-        ("c7".into(), [-60.0, 0.0, 1500.0]),
-        ("jugular".into(), [60.0, 0.0, 1440.0]),
-        ("head_top".into(), [0.0, 0.0, 1760.0]),
-        ("l_asis".into(), [100.0, 125.0, 1000.0]),
-        ("r_asis".into(), [100.0, -125.0, 1000.0]),
-        ("l_psis".into(), [-60.0, 45.0, 1030.0]),
-        ("r_psis".into(), [-60.0, -45.0, 1030.0]),
-    ];
-    for (s, y) in [("l", 1.0), ("r", -1.0)] {
-        for (stem, p) in [
-            ("acromion", [0.0, 190.0, 1450.0]),
-            ("elbow_lat", [0.0, 240.0, 1120.0]),
-            ("elbow_med", [0.0, 170.0, 1120.0]),
-            ("wrist_rad", [20.0, 220.0, 860.0]),
-            ("wrist_uln", [-20.0, 220.0, 860.0]),
-            ("hand", [0.0, 220.0, 780.0]),
-            ("knee_lat", [10.0, 140.0, 500.0]),
-            ("knee_med", [10.0, 40.0, 500.0]),
-            ("ankle_lat", [-10.0, 120.0, 70.0]),
-            ("ankle_med", [-10.0, 50.0, 70.0]),
-            ("heel", [-60.0, 90.0, 20.0]),
-            ("toe", [200.0, 100.0, 20.0]),
-        ] {
-            m.push((format!("{s}_{stem}"), [p[0], p[1] * y, p[2]]));
-        }
-    }
-    let mut k = 0;
-    while m.len() < MARKERS {
-        let side = if k % 2 == 0 { 1.0 } else { -1.0 };
-        let z = 300.0 + 90.0 * (k / 2) as f64;
-        m.push((format!("tech{k:02}"), [70.0, 110.0 * side, z]));
-        k += 1;
-    }
-    m
-}
-
-/// One trial as wide CSV text.
-fn trial_csv(seed: u64) -> String {
-    let markers = markers();
+/// One trial as wide CSV bytes: [`gravline::synth::long_trial`], a walk of 30 s at 100 Hz
+/// with `MARKERS` markers, 0.5 mm noise and a few short gaps.
+fn trial_csv(seed: u64) -> Vec<u8> {
     let n_frames = (DURATION_S * RATE_HZ) as usize;
-    let s = seed as f64;
-    let (ap_rad, ml_rad) = (0.004 + 0.001 * (s % 7.0), 0.002 + 0.0007 * (s % 5.0));
-    let f_hz = 0.3 + 0.05 * (s % 4.0);
-    let mut csv = String::with_capacity(n_frames * MARKERS * 3 * 10);
-    csv.push_str("time");
-    for (name, _) in &markers {
-        csv.push_str(&format!(",{name}_x,{name}_y,{name}_z"));
-    }
-    csv.push('\n');
-    for f in 0..n_frames {
-        let t = f as f64 / RATE_HZ;
-        let phase = 2.0 * std::f64::consts::PI * f_hz * t;
-        let (ap, ml) = (ap_rad * phase.sin(), ml_rad * (1.3 * phase).cos());
-        csv.push_str(&format!("{t:.2}"));
-        for (_, p) in &markers {
-            let h = (p[2] - 70.0).max(0.0);
-            csv.push_str(&format!(
-                ",{:.3},{:.3},{:.3}",
-                p[0] + h * ap,
-                p[1] + h * ml,
-                p[2]
-            ));
-        }
-        csv.push('\n');
-    }
-    csv
+    let trial = gravline::synth::long_trial(n_frames, MARKERS, seed);
+    let mut bytes = Vec::new();
+    gravline::synth::write_wide_csv(&trial, "synthetic walk for the batch benchmark", &mut bytes)
+        .expect("write to memory");
+    bytes
 }
 
 /// Writes `n` trials and a manifest naming them; returns the manifest.

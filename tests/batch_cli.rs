@@ -417,11 +417,16 @@ fn a_folder_with_subjects_csv_runs_every_trial_in_name_order() {
             dir.path().to_str().unwrap(),
             "--out",
             out.to_str().unwrap(),
-            "--no-plots",
         ])
         .args(["--mass-kg", "80", "--height-m", "1.8", "--sex", "male"])
         .assert()
         .code(1);
+    for f in ["frames.csv", "summary.json", "path.png", "series.png"] {
+        assert!(
+            out.join("trials/a").join(f).is_file(),
+            "plots by default: {f}"
+        );
+    }
     let rows = csv_maps(&out.join("summary.csv"));
     let ids: Vec<&str> = rows.iter().map(|r| r["id"].as_str()).collect();
     assert_eq!(ids, ["a", "b", "c"]);

@@ -88,7 +88,7 @@ fn assert_complete(out: &Path) {
 fn a_killed_batch_resumes_without_redoing_or_losing_trials() {
     let dir = tempfile::tempdir().unwrap();
     let n_trials = 24;
-    let (manifest, _) = standing_batch(dir.path(), n_trials, 2000);
+    let (manifest, _) = standing_batch(dir.path(), n_trials, 1000);
     let m = manifest.to_str().unwrap();
     let exe = env!("CARGO_BIN_EXE_gravline");
 

@@ -62,8 +62,9 @@
 //! the same input-file SHA-256 and configuration hash (configuration, subject and table) as the
 //! trial would get now; its row is read back from that `summary.json`. Rows are always built from
 //! the `summary.json` text, so a resumed table is identical to an uninterrupted one. A run that
-//! was killed (even with `kill -9`) leaves only complete files and hidden `.<name>.<pid>.tmp`
-//! files, which are removed when that trial runs again; `gravline batch ... --resume` then redoes
+//! was killed (even with `kill -9`) leaves only complete files and hidden temporary files
+//! (`.<name>.<pid>.tmp`, `.<stem>.<pid>-<n>.tmp.png`), which are removed when that trial runs
+//! again; `gravline batch ... --resume` then redoes
 //! only the unfinished trials and says how many it skipped.
 //!
 //! **Clusters.** `--shard K/N` runs only the trials at 0-based manifest positions i with
@@ -363,10 +364,17 @@ fn clear_stale(dir: &Path) {
     }
 }
 
-/// Whether a file name is one of [`crate::report::write_atomic`]'s temporary names
-/// (`.<name>.<pid>.tmp`).
+/// Whether a file name is a temporary name of the atomic writers: hidden and ending in `.tmp`
+/// ([`crate::report::write_atomic`]: `.<name>.<pid>.tmp`) or in `.tmp.<ext>` (the plots:
+/// `.<stem>.<pid>-<n>.tmp.png`).
 pub fn is_temporary(name: &str) -> bool {
-    name.starts_with('.') && name.ends_with(".tmp")
+    let Some(rest) = name.strip_prefix('.') else {
+        return false;
+    };
+    rest.ends_with(".tmp")
+        || rest
+            .rsplit_once('.')
+            .is_some_and(|(front, _ext)| front.ends_with(".tmp"))
 }
 
 /// Writes the summary table (and, for a whole run, `groups.csv`) into `out_dir`; returns the
@@ -475,6 +483,9 @@ mod tests {
     #[test]
     fn temporary_names_are_recognised() {
         assert!(is_temporary(".frames.csv.123.tmp"));
+        assert!(is_temporary(".path.123-4.tmp.png"));
         assert!(!is_temporary("frames.csv"));
+        assert!(!is_temporary("path.png"));
+        assert!(!is_temporary(".hidden.png"));
     }
 }

@@ -1,84 +1,35 @@
-//! Shared helpers of the batch tests: small synthetic standing trials (invented data, synthetic
-//! tests only), manifests, and readers of the batch outputs.
+//! Shared helpers of the batch tests: small synthetic standing trials (`gravline::synth`,
+//! invented data), manifests, and readers of the batch outputs.
 
 #![allow(dead_code)]
 
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-/// The markers of a standing body in millimetres, +z up: every landmark the default model
-/// needs (invented).
-pub fn standing_markers() -> Vec<(String, [f64; 3])> {
-    let mut markers: Vec<(String, [f64; 3])> = vec![
-        ("c7".into(), [-60.0, 0.0, 1500.0]),
-        ("jugular".into(), [60.0, 0.0, 1440.0]),
-        ("l_head_front".into(), [80.0, 70.0, 1640.0]),
-        ("r_head_front".into(), [80.0, -70.0, 1640.0]),
-        ("l_head_back".into(), [-90.0, 70.0, 1660.0]),
-        ("r_head_back".into(), [-90.0, -70.0, 1660.0]),
-        ("l_asis".into(), [100.0, 125.0, 1000.0]),
-        ("r_asis".into(), [100.0, -125.0, 1000.0]),
-        ("l_psis".into(), [-60.0, 45.0, 1030.0]),
-        ("r_psis".into(), [-60.0, -45.0, 1030.0]),
-    ];
-    for (s, y) in [("l", 1.0), ("r", -1.0)] {
-        for (stem, p) in [
-            ("acromion", [0.0, 190.0, 1450.0]),
-            ("elbow_lat", [0.0, 240.0, 1120.0]),
-            ("elbow_med", [0.0, 170.0, 1120.0]),
-            ("wrist_rad", [20.0, 220.0, 860.0]),
-            ("wrist_uln", [-20.0, 220.0, 860.0]),
-            ("hand", [0.0, 220.0, 780.0]),
-            ("knee_lat", [10.0, 140.0, 500.0]),
-            ("knee_med", [10.0, 40.0, 500.0]),
-            ("ankle_lat", [-10.0, 120.0, 70.0]),
-            ("ankle_med", [-10.0, 50.0, 70.0]),
-            ("heel", [-60.0, 90.0, 20.0]),
-            ("toe", [200.0, 100.0, 20.0]),
-            ("mt1", [140.0, 60.0, 20.0]),
-            ("mt5", [120.0, 130.0, 20.0]),
-        ] {
-            markers.push((format!("{s}_{stem}"), [p[0], p[1] * y, p[2]]));
-        }
-    }
-    markers
-}
-
-/// A standing trial (wide CSV, mm, 100 Hz) swaying as an inverted pendulum about the ankles:
-/// every marker above the ankles moves by its height above them times a small angle, the AP and
-/// ML angles sine waves whose amplitude and frequency follow `seed`, so that each trial's
-/// figures differ. `skip` leaves a marker out of the file.
+/// A quiet-standing trial from [`gravline::synth`] (wide CSV, mm, 100 Hz, 0.5 mm noise, a few
+/// short gaps), `frames` long; `seed` changes the sway and the noise, so each trial's figures
+/// differ. `skip` leaves a marker out of the file.
 pub fn standing_csv(frames: usize, seed: u64, skip: Option<&str>) -> String {
-    let markers: Vec<(String, [f64; 3])> = standing_markers()
-        .into_iter()
-        .filter(|(m, _)| Some(m.as_str()) != skip)
-        .collect();
-    let s = seed as f64;
-    let ap_rad = 0.004 + 0.001 * (s % 7.0);
-    let ml_rad = 0.002 + 0.0007 * (s % 5.0);
-    let f_hz = 0.3 + 0.05 * (s % 4.0);
-    let mut csv = String::from("# standing sway, invented for the batch tests\ntime");
-    for (m, _) in &markers {
-        csv.push_str(&format!(",{m}_x,{m}_y,{m}_z"));
+    use gravline::synth::{self, Scenario, SynthOptions};
+    let mut o = SynthOptions::for_scenario(Scenario::Stand);
+    o.duration_s = frames as f64 / o.rate_hz;
+    o.seed = seed;
+    let mut trial = synth::generate(Scenario::Stand, &o);
+    if let Some(label) = skip {
+        let i = trial
+            .index_of(label)
+            .unwrap_or_else(|| panic!("no marker {label}"));
+        trial.labels.remove(i);
+        trial.positions.remove(i);
     }
-    csv.push('\n');
-    for f in 0..frames {
-        let t = f as f64 / 100.0;
-        let phase = 2.0 * std::f64::consts::PI * f_hz * t;
-        let (ap, ml) = (ap_rad * phase.sin(), ml_rad * (1.3 * phase).cos());
-        csv.push_str(&format!("{t:.2}"));
-        for (_, p) in &markers {
-            let h = (p[2] - 70.0).max(0.0);
-            csv.push_str(&format!(
-                ",{:.3},{:.3},{:.3}",
-                p[0] + h * ap,
-                p[1] + h * ml,
-                p[2]
-            ));
-        }
-        csv.push('\n');
-    }
-    csv
+    let mut bytes = Vec::new();
+    synth::write_wide_csv(
+        &trial,
+        "quiet standing, synthetic (gravline::synth)",
+        &mut bytes,
+    )
+    .unwrap();
+    String::from_utf8(bytes).unwrap()
 }
 
 /// Writes a file, creating its folder.
