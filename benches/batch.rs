@@ -10,6 +10,11 @@
 //!   value read before it exits is reported (the mark only grows, so this is the peak up to the
 //!   last few milliseconds, which only write the summary table).
 //!
+//! The machine is shared, so each run also prints the CPU time of the batch process (user +
+//! system, fields 14 and 15 of `/proc/<pid>/stat`, at the usual 100 ticks per second) and the
+//! 1-minute load average: a speed-up below target with a load above 2 means other work took
+//! the second core.
+//!
 //! Run: `cargo bench --bench batch` (Linux, for `/proc`). Trials are written to a temporary folder
 //! under the target directory and removed afterwards.
 
@@ -59,9 +64,30 @@ fn vm_hwm_kb(pid: u32) -> Option<u64> {
     line.split_whitespace().nth(1)?.parse().ok()
 }
 
+/// User + system CPU time of a process so far, in clock ticks (fields 14 and 15 of
+/// `/proc/<pid>/stat`, after the parenthesised command name).
+fn cpu_ticks(pid: u32) -> Option<u64> {
+    let stat = std::fs::read_to_string(format!("/proc/{pid}/stat")).ok()?;
+    let rest = &stat[stat.rfind(')')? + 2..];
+    let fields: Vec<&str> = rest.split_whitespace().collect();
+    let utime: u64 = fields.get(11)?.parse().ok()?;
+    let stime: u64 = fields.get(12)?.parse().ok()?;
+    Some(utime + stime)
+}
+
+/// The 1-minute load average: how busy the shared machine was.
+fn load_average() -> String {
+    std::fs::read_to_string("/proc/loadavg")
+        .ok()
+        .and_then(|l| l.split_whitespace().next().map(str::to_string))
+        .unwrap_or_else(|| "?".into())
+}
+
 struct Run {
     wall_s: f64,
     peak_kb: u64,
+    /// CPU time of the batch process (all its threads), s, at 100 ticks per second.
+    cpu_s: f64,
 }
 
 /// Runs a batch on the release binary: wall time and peak resident memory.
@@ -79,9 +105,13 @@ fn run_batch(manifest: &Path, out: &Path, jobs: usize) -> Run {
         .spawn()
         .expect("start gravline");
     let mut peak_kb = 0;
+    let mut ticks = 0;
     let status = loop {
         if let Some(kb) = vm_hwm_kb(child.id()) {
             peak_kb = peak_kb.max(kb);
+        }
+        if let Some(t) = cpu_ticks(child.id()) {
+            ticks = ticks.max(t);
         }
         if let Some(status) = child.try_wait().expect("wait for gravline") {
             break status;
@@ -90,7 +120,11 @@ fn run_batch(manifest: &Path, out: &Path, jobs: usize) -> Run {
     };
     let wall_s = start.elapsed().as_secs_f64();
     assert!(status.success(), "batch failed: {status}");
-    Run { wall_s, peak_kb }
+    Run {
+        wall_s,
+        peak_kb,
+        cpu_s: ticks as f64 / 100.0,
+    }
 }
 
 fn main() {
@@ -116,24 +150,21 @@ fn main() {
     let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
     writeln!(out, "cores available: {cores}").ok();
 
+    let line = |label: &str, r: &Run, n: usize| {
+        format!(
+            "{label}: {:.2} s wall ({:.1} ms per trial), {:.2} s CPU, peak {:.1} MB, load average {}",
+            r.wall_s,
+            1e3 * r.wall_s / n as f64,
+            r.cpu_s,
+            r.peak_kb as f64 / 1024.0,
+            load_average()
+        )
+    };
+    writeln!(out, "load average before: {}", load_average()).ok();
     let one = run_batch(&big, &root.join("out-1"), 1);
-    writeln!(
-        out,
-        "200 trials, --jobs 1: {:.2} s ({:.1} ms per trial), peak {:.1} MB",
-        one.wall_s,
-        1e3 * one.wall_s / 200.0,
-        one.peak_kb as f64 / 1024.0
-    )
-    .ok();
+    writeln!(out, "{}", line("200 trials, --jobs 1", &one, 200)).ok();
     let two = run_batch(&big, &root.join("out-2"), 2);
-    writeln!(
-        out,
-        "200 trials, --jobs 2: {:.2} s ({:.1} ms per trial), peak {:.1} MB",
-        two.wall_s,
-        1e3 * two.wall_s / 200.0,
-        two.peak_kb as f64 / 1024.0
-    )
-    .ok();
+    writeln!(out, "{}", line("200 trials, --jobs 2", &two, 200)).ok();
     let speedup = one.wall_s / two.wall_s;
     let verdict = if speedup >= 1.7 { "meets" } else { "misses" };
     writeln!(
@@ -150,6 +181,7 @@ fn main() {
     .ok();
 
     let fifty = run_batch(&small, &root.join("out-50"), 2);
+    writeln!(out, "{}", line("50 trials, --jobs 2", &fifty, 50)).ok();
     writeln!(
         out,
         "peak memory, --jobs 2: 50 trials {:.1} MB, 200 trials {:.1} MB (ratio {:.2})",
