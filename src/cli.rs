@@ -46,6 +46,13 @@ enum Command {
     /// Run the bundled example trials end to end.
     #[command(after_help = EPILOGUE)]
     Demo(DemoArgs),
+    /// Process many trials in parallel (a manifest CSV or a folder): per-trial outputs in
+    /// <out>/trials/<id>/, summary.csv, summary.parquet and groups.csv in <out>.
+    #[command(after_help = EPILOGUE)]
+    Batch(BatchArgs),
+    /// Join shard summaries (summary-K-of-N.parquet or .csv) into the summary.csv, summary.parquet
+    /// and groups.csv of an unsharded run.
+    Merge(MergeArgs),
 }
 
 #[derive(Args, Debug, Clone, Default)]
@@ -199,6 +206,8 @@ pub fn run() -> Result<ExitCode> {
             Ok(ExitCode::SUCCESS)
         }
         Command::Demo(a) => demo(&a, &ui),
+        Command::Batch(a) => batch(&a, &ui),
+        Command::Merge(a) => merge(&a, &ui),
     }
 }
 
@@ -484,4 +493,115 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
     ));
     ui.info(&format!("caution: {}", CAUTIONS[0]));
     Ok(ExitCode::SUCCESS)
+}
+
+#[derive(Args, Debug)]
+struct BatchArgs {
+    /// Manifest CSV (trial, subject, mass_kg, height_m, sex, [condition, config, ...]), or a
+    /// folder whose *.csv files are the trials.
+    input: PathBuf,
+    /// Output folder.
+    #[arg(long)]
+    out: PathBuf,
+    /// Configuration for every row without a `config` cell.
+    #[arg(long)]
+    config: Option<PathBuf>,
+    /// Worker threads (default: one per core).
+    #[arg(long)]
+    jobs: Option<usize>,
+    /// Run only part K of N: the trials at positions i (from 0) with i % N == K - 1.
+    #[arg(long, value_name = "K/N", value_parser = gravline::batch::Shard::parse)]
+    shard: Option<gravline::batch::Shard>,
+    /// Skip trials whose outputs exist with the same input file and configuration hashes.
+    #[arg(long)]
+    resume: bool,
+    /// For a folder: the subject of the trials that subjects.csv does not list.
+    #[command(flatten)]
+    subject: SubjectArgs,
+    #[command(flatten)]
+    plots: PlotArgs,
+}
+
+#[derive(Args, Debug)]
+struct MergeArgs {
+    /// Shard summaries written by `batch --shard` (Parquet or CSV).
+    #[arg(required = true)]
+    inputs: Vec<PathBuf>,
+    /// Output folder.
+    #[arg(long)]
+    out: PathBuf,
+}
+
+fn batch(a: &BatchArgs, ui: &Ui) -> Result<ExitCode> {
+    use gravline::batch::{self, ProgressMode};
+    use std::io::IsTerminal;
+    let base = config(&SetupArgs {
+        config: a.config.clone(),
+        ..SetupArgs::default()
+    })?;
+    let s = &a.subject;
+    let given =
+        s.subject.is_some() || s.mass_kg.is_some() || s.height_m.is_some() || s.sex.is_some();
+    let plan = if a.input.is_dir() {
+        let defaults = batch::DirectoryDefaults {
+            subject: if given { Some(subject(s)?) } else { None },
+        };
+        batch::read_directory(&a.input, base, &defaults, &a.out)?
+    } else {
+        if given {
+            bail!("--subject, --mass-kg, --height-m and --sex are for a folder; a manifest gives the subject per row");
+        }
+        batch::read_manifest(&a.input, base)?
+    };
+    let total = plan.jobs.len();
+    let plan = match a.shard {
+        Some(shard) => plan.shard(shard),
+        None => plan,
+    };
+    let mode = if ui.quiet {
+        ProgressMode::Quiet
+    } else if std::io::stderr().is_terminal() {
+        ProgressMode::Bar
+    } else {
+        ProgressMode::Lines
+    };
+    let progress = batch::Progress::new(plan.jobs.len(), mode);
+    for w in &plan.warnings {
+        progress.info(&format!("batch: warning: {w}"));
+    }
+    let part = a.shard.map_or(String::new(), |s| {
+        format!(" (shard {}/{} of {total})", s.index, s.count)
+    });
+    progress.info(&format!(
+        "batch: {} trials from {}{part}",
+        plan.jobs.len(),
+        plan.source
+    ));
+    let options = batch::BatchOptions {
+        out_dir: a.out.clone(),
+        jobs: a.jobs,
+        shard: a.shard,
+        resume: a.resume,
+        output: OutputOptions {
+            run: RunOptions::default(),
+            plots: a.plots.formats(),
+        },
+    };
+    let outcome = batch::run(&plan, &options, &progress)?;
+    ui.info(&outcome.describe());
+    Ok(if outcome.failed > 0 {
+        ExitCode::from(1)
+    } else {
+        ExitCode::SUCCESS
+    })
+}
+
+fn merge(a: &MergeArgs, ui: &Ui) -> Result<ExitCode> {
+    let outcome = gravline::batch::merge(&a.inputs, &a.out)?;
+    ui.info(&outcome.describe_merge());
+    Ok(if outcome.failed > 0 {
+        ExitCode::from(1)
+    } else {
+        ExitCode::SUCCESS
+    })
 }

@@ -1,1 +1,0 @@
-//! (filled by its stage's issue)

@@ -1,0 +1,480 @@
+//! Stage 7, batch (DESIGN.md 8, 10, 13): many trials through [`pipeline::process_file`] in
+//! parallel, one summary table over them, shards for clusters, and resuming an interrupted run.
+//! Inputs: a manifest CSV or a folder of trial CSVs ([`manifest`]); outputs: each trial's folder,
+//! `summary.csv`, `summary.parquet` and `groups.csv` ([`table`]). Units as in the trial outputs
+//! (SI, the unit in every column name). No formulas of its own beyond the group mean and sample
+//! standard deviation.
+//!
+//! # Batch processing (README section)
+//!
+//! ```text
+//! gravline batch <MANIFEST.csv | DIR> --out DIR [--config C.toml] [--jobs N] [--shard K/N]
+//!                [--resume] [--no-plots] [-q]
+//! gravline merge <SUMMARY.parquet|csv>... --out DIR
+//! ```
+//!
+//! **Input.** A manifest is a CSV with a row per trial: `trial` (path relative to the manifest),
+//! `subject`, `mass_kg`, `height_m`, `sex` (`female` | `male`), and optionally `condition`,
+//! `config` (a configuration file relative to the manifest, used for that row instead of
+//! `--config`) and the subject measurements `leg_length_m`, `asis_width_m`, `marker_radius_m`,
+//! `knee_width_m`, `ankle_width_m`, `elbow_width_m`, `wrist_width_m`. Other columns are ignored
+//! (listed once at the start). Lines starting with `#` are comments. Instead of a manifest, give
+//! a folder: every `*.csv` in it is a trial, in file-name order, with the subject from a
+//! `subjects.csv` in the folder (columns `trial` = file name, `subject`, `mass_kg`, `height_m`,
+//! `sex`, and the optional ones above) or, for files it does not list, from `--subject S.toml`
+//! or `--mass-kg`, `--height-m` and `--sex`.
+//!
+//! **Running.** Trials run in parallel on `--jobs N` threads (default: every core). Each trial's
+//! outputs are written to `<out>/trials/<id>/` as soon as it finishes (`frames.csv`,
+//! `summary.json`, `steps.csv`, plots unless `--no-plots`), each file through a temporary name
+//! and a rename, `summary.json` last: a folder with a `summary.json` is complete. The id is the
+//! trial file's stem; when two rows share a stem, each of them becomes `<stem>-row<row>` (e.g.
+//! `walk-row3`). A trial that fails (file unreadable, a landmark missing, a bad subject row,
+//! a bad per-row configuration) becomes a row with `status = error` and its one-line message,
+//! printed as it happens; the batch goes on. A progress bar is shown on a terminal, a line every
+//! few seconds otherwise, neither with `-q`.
+//!
+//! **Outputs** in `<out>/`: `summary.csv` and `summary.parquet` hold the same table, one row per
+//! trial in manifest order, whatever the scheduling: `row` (1-based manifest row), `id`, `trial`,
+//! `subject`, `condition`, `status` (`ok` | `error`), `error`, `frames`, `duration_s`, `rate_hz`,
+//! `valid_fraction`, `sex`, `mass_kg`, `height_m`, `com_mean_height_m`,
+//! `com_mean_height_of_stature`, `com_min_{x,y,z}_m`, `com_max_{x,y,z}_m`, `com_path_length_m`,
+//! `com_vertical_excursion_m`, `com_ml_excursion_m`, `com_mean_speed_m_s`, `com_max_speed_m_s`,
+//! `floor_m`, `progression_x`, `progression_y` (unit vector of the direction of progression in
+//! the floor plane), `min_bos_margin_m`, `mean_bos_margin_m`, `min_mos_m`, `mean_mos_m`,
+//! `time_with_bos_s`, `time_outside_bos_s`, then per side (`left_`, `right_`): `steps`,
+//! `step_length_m`, `step_width_m`, `mos_ap_heel_strike_m`, `min_mos_ml_single_stance_m`,
+//! `com_vertical_excursion_m` (means over that side's steps), then `table`, `body_mass_kg`,
+//! `system_mass_kg`, `cutoff_hz`, `max_gap_s`, `leg_length_m`, `xcom_length_m`, `omega0_rad_s`,
+//! `warnings` (their count; the text is in `summary.json`), `gravline_version`, `input_sha256`,
+//! `config_sha256`. Missing values are empty cells (CSV) or nulls (Parquet). `groups.csv` has a
+//! line per group and figure: `by` (`subject` or `condition`), `group`, `figure`, `n` (ok trials
+//! with a value), `mean`, `sd` (sample standard deviation, n - 1; empty for n < 2), over the
+//! figures `valid_fraction`, `com_mean_height_m`, `com_mean_height_of_stature`,
+//! `com_path_length_m`, `com_mean_speed_m_s`, `com_max_speed_m_s`, `com_vertical_excursion_m`,
+//! `com_ml_excursion_m`, `min_bos_margin_m`, `mean_bos_margin_m`, `min_mos_m`, `mean_mos_m`,
+//! `time_outside_bos_s` and the per-side step length, step width, AP MoS at heel strike and ML
+//! MoS in single stance. Failed trials and rows without a subject (condition) are left out of
+//! that grouping. Exit code 0 when every trial ran, 1 when some failed, 2 when the batch could
+//! not start (manifest unreadable or missing a column, bad `--config`, no subject).
+//!
+//! **Resuming.** `--resume` skips every trial whose `trials/<id>/summary.json` exists and records
+//! the same input-file SHA-256 and configuration hash (configuration, subject and table) as the
+//! trial would get now; its row is read back from that `summary.json`. Rows are always built from
+//! the `summary.json` text, so a resumed table is identical to an uninterrupted one. A run that
+//! was killed (even with `kill -9`) leaves only complete files and hidden `.<name>.<pid>.tmp`
+//! files, which are removed when that trial runs again; `gravline batch ... --resume` then redoes
+//! only the unfinished trials and says how many it skipped.
+//!
+//! **Clusters.** `--shard K/N` runs only the trials at 0-based manifest positions i with
+//! i % N == K - 1 (K from 1 to N), so N jobs with the same manifest take disjoint sets that
+//! together cover it. Ids and the `row` column are those of the whole manifest. A shard writes
+//! `summary-K-of-N.csv` and `summary-K-of-N.parquet` (no `groups.csv`) into `--out`, which the N
+//! jobs may share; `gravline merge` then joins the shard tables (Parquet or CSV, any order) into
+//! exactly the `summary.csv`, `summary.parquet` and `groups.csv` of an unsharded run, checking
+//! that no row is missing or given twice. Run it as an array job of N tasks, where the scheduler
+//! gives each task its index in an environment variable (here `TASK_ID`, counted from 1):
+//!
+//! ```text
+//! # each of the N array tasks:
+//! gravline batch manifest.csv --out results --shard "$TASK_ID/$N" --resume -q
+//! # once all tasks have finished:
+//! gravline merge results/summary-*-of-$N.parquet --out results
+//! ```
+//!
+//! With `--resume`, a task that was pre-empted and restarted continues where it stopped. The
+//! Parquet summary reads straight into dataframe and SQL engines.
+
+pub mod manifest;
+pub mod progress;
+pub mod table;
+
+pub use manifest::{read_directory, read_manifest, DirectoryDefaults, Job, ManifestError, Plan};
+pub use progress::{Progress, ProgressMode, TrialOutcome};
+pub use table::{Row, RowKey, StoredSummary, TableError};
+
+use crate::pipeline::{self, OutputOptions, Setup};
+use rayon::prelude::*;
+use std::path::{Path, PathBuf};
+
+/// One of N deterministic parts of a manifest.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Shard {
+    /// K, from 1 to `count`.
+    pub index: usize,
+    /// N.
+    pub count: usize,
+}
+
+impl Shard {
+    /// Parses `K/N` with 1 <= K <= N.
+    ///
+    /// ```
+    /// use gravline::batch::Shard;
+    /// assert_eq!(Shard::parse("2/3"), Ok(Shard { index: 2, count: 3 }));
+    /// assert!(Shard::parse("4/3").is_err());
+    /// ```
+    pub fn parse(text: &str) -> Result<Shard, String> {
+        let bad = || format!("shard `{text}`: give K/N with 1 <= K <= N, e.g. 2/8");
+        let (k, n) = text.trim().split_once('/').ok_or_else(bad)?;
+        let index: usize = k.trim().parse().map_err(|_| bad())?;
+        let count: usize = n.trim().parse().map_err(|_| bad())?;
+        if index == 0 || index > count {
+            return Err(bad());
+        }
+        Ok(Shard { index, count })
+    }
+
+    /// Whether this shard takes the trial at 0-based manifest position `i`.
+    pub fn takes(&self, i: usize) -> bool {
+        i % self.count == self.index - 1
+    }
+
+    /// `K-of-N`, the suffix of a shard's summary files.
+    pub fn suffix(&self) -> String {
+        format!("{}-of-{}", self.index, self.count)
+    }
+}
+
+/// How to run a batch.
+#[derive(Clone, Debug)]
+pub struct BatchOptions {
+    pub out_dir: PathBuf,
+    /// Worker threads; `None` = one per core.
+    pub jobs: Option<usize>,
+    pub shard: Option<Shard>,
+    pub resume: bool,
+    /// Per-trial outputs (plots, segment columns).
+    pub output: OutputOptions,
+}
+
+/// A batch that could not run or whose summary could not be written.
+#[derive(Debug, thiserror::Error)]
+pub enum BatchError {
+    #[error("{0}")]
+    Manifest(#[from] ManifestError),
+    #[error("{0}")]
+    Table(#[from] TableError),
+    #[error("cannot start {jobs} worker threads: {message}")]
+    Threads { jobs: usize, message: String },
+    #[error("--jobs 0: give at least one worker thread")]
+    NoJobs,
+    #[error("{0}")]
+    Merge(String),
+}
+
+/// What a batch (or a merge) did.
+#[derive(Clone, Debug)]
+pub struct Outcome {
+    /// The summary rows, in manifest order.
+    pub rows: Vec<Row>,
+    pub ran: usize,
+    pub skipped: usize,
+    pub failed: usize,
+    /// The files written into the output folder.
+    pub files: Vec<PathBuf>,
+}
+
+impl Outcome {
+    /// One line: counts and where the summary is.
+    pub fn describe(&self) -> String {
+        let files: Vec<String> = self.files.iter().map(|f| f.display().to_string()).collect();
+        format!(
+            "batch: {} trials, {} ok ({} run, {} skipped as unchanged since an earlier run), {} failed; summary in {}",
+            self.rows.len(),
+            self.rows.len() - self.failed,
+            self.ran,
+            self.skipped,
+            self.failed,
+            files.join(", ")
+        )
+    }
+
+    /// One line after a merge: counts and where the summary is.
+    pub fn describe_merge(&self) -> String {
+        let files: Vec<String> = self.files.iter().map(|f| f.display().to_string()).collect();
+        format!(
+            "merge: {} trials, {} ok, {} failed; summary in {}",
+            self.rows.len(),
+            self.rows.len() - self.failed,
+            self.failed,
+            files.join(", ")
+        )
+    }
+}
+
+/// Folder of the per-trial outputs under the batch output folder.
+pub fn trials_dir(out_dir: &Path) -> PathBuf {
+    out_dir.join("trials")
+}
+
+/// Names of the summary files in the output folder, for a shard or a whole run.
+pub fn summary_names(shard: Option<Shard>) -> Vec<String> {
+    match shard {
+        Some(s) => vec![
+            format!("summary-{}.csv", s.suffix()),
+            format!("summary-{}.parquet", s.suffix()),
+        ],
+        None => vec![
+            "summary.csv".into(),
+            "summary.parquet".into(),
+            "groups.csv".into(),
+        ],
+    }
+}
+
+/// Runs the jobs of a plan (already sharded, see [`Plan::shard`]) and writes the summary files.
+pub fn run(
+    plan: &Plan,
+    options: &BatchOptions,
+    progress: &Progress,
+) -> Result<Outcome, BatchError> {
+    let jobs = options
+        .jobs
+        .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+    if jobs == 0 {
+        return Err(BatchError::NoJobs);
+    }
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(jobs)
+        .thread_name(|i| format!("gravline-batch-{i}"))
+        .build()
+        .map_err(|e| BatchError::Threads {
+            jobs,
+            message: e.to_string(),
+        })?;
+    let trials = trials_dir(&options.out_dir);
+    let results: Vec<(Row, TrialOutcome)> = pool.install(|| {
+        plan.jobs
+            .par_iter()
+            .with_max_len(1)
+            .map(|job| {
+                let (row, outcome, error) = run_job(job, options, &trials);
+                progress.trial_done(outcome, error.as_deref());
+                (row, outcome)
+            })
+            .collect()
+    });
+    progress.finish();
+    let count = |o: TrialOutcome| results.iter().filter(|r| r.1 == o).count();
+    let (ran, skipped, failed) = (
+        count(TrialOutcome::Ran),
+        count(TrialOutcome::Skipped),
+        count(TrialOutcome::Failed),
+    );
+    let rows: Vec<Row> = results.into_iter().map(|r| r.0).collect();
+    let files = write_summary(&options.out_dir, options.shard, &rows)?;
+    Ok(Outcome {
+        rows,
+        ran,
+        skipped,
+        failed,
+        files,
+    })
+}
+
+/// Runs one job: its row, how it ended, and the message of a failure (`row N (id): ...`).
+fn run_job(
+    job: &Job,
+    options: &BatchOptions,
+    trials: &Path,
+) -> (Row, TrialOutcome, Option<String>) {
+    let key = RowKey {
+        row: job.row,
+        id: &job.id,
+        trial: &job.trial,
+        subject: job.subject.as_deref(),
+        condition: job.condition.as_deref(),
+    };
+    let fail = |message: String| {
+        let row = Row::error(&key, &message);
+        (
+            row,
+            TrialOutcome::Failed,
+            Some(format!("row {} ({}): {message}", job.row, job.id)),
+        )
+    };
+    let js = match &job.setup {
+        Ok(s) => s,
+        Err(message) => return fail(message.clone()),
+    };
+    let setup = match Setup::new((*js.config).clone(), js.subject.clone()) {
+        Ok(s) => s,
+        Err(e) => return fail(e.to_string()),
+    };
+    let dir = trials.join(&job.id);
+    let json = dir.join("summary.json");
+    if options.resume {
+        if let Some(stored) = reusable(&job.path, &setup, &json) {
+            return (Row::ok(&key, &stored), TrialOutcome::Skipped, None);
+        }
+    }
+    clear_stale(&dir);
+    // A panic in a stage is a bug; it fails this trial only, and the batch goes on.
+    let result = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        pipeline::process_file(&job.path, &setup, &dir, &options.output)
+    }));
+    match result {
+        Ok(Ok(_)) => match read_stored(&json) {
+            Ok(stored) => (Row::ok(&key, &stored), TrialOutcome::Ran, None),
+            Err(message) => fail(message),
+        },
+        Ok(Err(e)) => fail(e.to_string()),
+        Err(_) => fail(format!(
+            "{}: internal error (a panic); please report it with this file",
+            job.path.display()
+        )),
+    }
+}
+
+/// Reads a trial's `summary.json` back.
+fn read_stored(json: &Path) -> Result<StoredSummary, String> {
+    let text = std::fs::read_to_string(json)
+        .map_err(|e| format!("cannot read {}: {e}", json.display()))?;
+    StoredSummary::from_json(&text).map_err(|e| format!("{}: {e}", json.display()))
+}
+
+/// The stored summary of an earlier run, when its input file and configuration hashes are the
+/// ones this run would record.
+fn reusable(trial: &Path, setup: &Setup, json: &Path) -> Option<StoredSummary> {
+    if !json.is_file() {
+        return None;
+    }
+    let stored = read_stored(json).ok()?;
+    if stored.provenance.config_sha256.as_deref() != Some(setup.hash().as_str()) {
+        return None;
+    }
+    let bytes = std::fs::read(trial).ok()?;
+    let input = crate::report::sha256_hex(&bytes);
+    (stored.provenance.input_sha256.as_deref() == Some(input.as_str())).then_some(stored)
+}
+
+/// Before a trial runs again: its old `summary.json` goes (so a folder with one is always from
+/// the latest run of that trial), and so do temporary files a killed run left.
+fn clear_stale(dir: &Path) {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    for entry in entries.flatten() {
+        let name = entry.file_name().to_string_lossy().into_owned();
+        if name == "summary.json" || is_temporary(&name) {
+            let _ = std::fs::remove_file(entry.path());
+        }
+    }
+}
+
+/// Whether a file name is one of [`crate::report::write_atomic`]'s temporary names
+/// (`.<name>.<pid>.tmp`).
+pub fn is_temporary(name: &str) -> bool {
+    name.starts_with('.') && name.ends_with(".tmp")
+}
+
+/// Writes the summary table (and, for a whole run, `groups.csv`) into `out_dir`; returns the
+/// files written.
+pub fn write_summary(
+    out_dir: &Path,
+    shard: Option<Shard>,
+    rows: &[Row],
+) -> Result<Vec<PathBuf>, TableError> {
+    let names = summary_names(shard);
+    let paths: Vec<PathBuf> = names.iter().map(|n| out_dir.join(n)).collect();
+    let err = |p: &Path| {
+        let path = p.display().to_string();
+        move |source| TableError::Write { path, source }
+    };
+    crate::report::write_atomic(&paths[0], |w| table::write_csv(rows, w))
+        .map_err(err(&paths[0]))?;
+    crate::report::write_atomic(&paths[1], |w| table::write_parquet(rows, w))
+        .map_err(err(&paths[1]))?;
+    if let Some(groups) = paths.get(2) {
+        let stats = table::groups(rows);
+        crate::report::write_atomic(groups, |w| table::write_groups(&stats, w))
+            .map_err(err(groups))?;
+    }
+    Ok(paths)
+}
+
+/// Joins shard summary tables (Parquet or CSV) into the summary files of an unsharded run:
+/// rows sorted by `row`; a row given twice, or missing between the first and the last, is an
+/// error.
+pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> {
+    if inputs.is_empty() {
+        return Err(BatchError::Merge(
+            "nothing to merge: give the shard summaries".into(),
+        ));
+    }
+    let mut rows: Vec<(i64, usize, Row)> = Vec::new();
+    for (k, path) in inputs.iter().enumerate() {
+        for row in table::read_table(path)? {
+            let n = row.row().ok_or_else(|| {
+                BatchError::Merge(format!("{}: a row without a `row` number", path.display()))
+            })?;
+            rows.push((n, k, row));
+        }
+    }
+    rows.sort_by_key(|r| r.0);
+    for w in rows.windows(2) {
+        if w[0].0 == w[1].0 {
+            return Err(BatchError::Merge(format!(
+                "row {} is in both {} and {}: give each shard's summary once",
+                w[0].0,
+                inputs[w[0].1].display(),
+                inputs[w[1].1].display()
+            )));
+        }
+    }
+    let numbers: Vec<i64> = rows.iter().map(|r| r.0).collect();
+    let missing: Vec<String> = match (numbers.first(), numbers.last()) {
+        (Some(&first), Some(&last)) => (1.min(first)..=last)
+            .filter(|n| numbers.binary_search(n).is_err())
+            .take(10)
+            .map(|n| n.to_string())
+            .collect(),
+        _ => Vec::new(),
+    };
+    if !missing.is_empty() {
+        return Err(BatchError::Merge(format!(
+            "rows {} missing: give every shard's summary",
+            missing.join(", ")
+        )));
+    }
+    let rows: Vec<Row> = rows.into_iter().map(|r| r.2).collect();
+    let failed = rows.iter().filter(|r| !r.is_ok()).count();
+    let files = write_summary(out_dir, None, &rows)?;
+    Ok(Outcome {
+        ran: 0,
+        skipped: 0,
+        failed,
+        rows,
+        files,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shards_partition_the_positions() {
+        let shards: Vec<Shard> = (1..=3).map(|k| Shard { index: k, count: 3 }).collect();
+        for i in 0..20 {
+            assert_eq!(
+                shards.iter().filter(|s| s.takes(i)).count(),
+                1,
+                "position {i}"
+            );
+        }
+        assert!(shards[0].takes(0) && shards[1].takes(4) && shards[2].takes(5));
+        assert!(
+            Shard::parse("0/3").is_err()
+                && Shard::parse("x").is_err()
+                && Shard::parse("1/0").is_err()
+        );
+    }
+
+    #[test]
+    fn temporary_names_are_recognised() {
+        assert!(is_temporary(".frames.csv.123.tmp"));
+        assert!(!is_temporary("frames.csv"));
+    }
+}
