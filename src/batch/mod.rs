@@ -64,8 +64,8 @@
 //! the `summary.json` text, so a resumed table is identical to an uninterrupted one. A run that
 //! was killed (even with `kill -9`) leaves only complete files and hidden temporary files
 //! (`.<name>.<pid>.tmp`, `.<stem>.<pid>-<n>.tmp.png`), which are removed when that trial runs
-//! again; `gravline batch ... --resume` then redoes
-//! only the unfinished trials and says how many it skipped.
+//! again; `gravline batch ... --resume` then redoes only the unfinished trials and says how many
+//! it skipped.
 //!
 //! **Clusters.** `--shard K/N` runs only the trials at 0-based manifest positions i with
 //! i % N == K - 1 (K from 1 to N), so N jobs with the same manifest take disjoint sets that
@@ -73,8 +73,10 @@
 //! `summary-K-of-N.csv` and `summary-K-of-N.parquet` (no `groups.csv`) into `--out`, which the N
 //! jobs may share; `gravline merge` then joins the shard tables (Parquet or CSV, any order) into
 //! exactly the `summary.csv`, `summary.parquet` and `groups.csv` of an unsharded run, checking
-//! that no row is missing or given twice. Run it as an array job of N tasks, where the scheduler
-//! gives each task its index in an environment variable (here `TASK_ID`, counted from 1):
+//! that no row is given twice and none is missing below the highest row (its exit code is 1 when
+//! the merged table has failed trials, as for the unsharded run). Run it as an array job of N
+//! tasks, where the scheduler gives each task its index in an environment variable (here
+//! `TASK_ID`, counted from 1; for an index counted from 0 pass `$((TASK_ID + 1))/$N`):
 //!
 //! ```text
 //! # each of the N array tasks:
@@ -158,7 +160,7 @@ pub enum BatchError {
     Table(#[from] TableError),
     #[error("cannot start {jobs} worker threads: {message}")]
     Threads { jobs: usize, message: String },
-    #[error("--jobs 0: give at least one worker thread")]
+    #[error("0 worker threads: give at least one job")]
     NoJobs,
     #[error("{0}")]
     Merge(String),
