@@ -11,9 +11,10 @@
 //!   last few milliseconds, which only write the summary table).
 //!
 //! The machine is shared, so each run also prints the CPU time of the batch process (user +
-//! system, fields 14 and 15 of `/proc/<pid>/stat`, at the usual 100 ticks per second) and the
-//! 1-minute load average: a speed-up below target with a load above 2 means other work took
-//! the second core.
+//! system, fields 14 and 15 of `/proc/<pid>/stat`, at the usual 100 ticks per second), the time
+//! its threads were ready but waited for a CPU (run-queue delay, second field of
+//! `/proc/<pid>/task/<tid>/schedstat`, summed over threads) and the 1-minute load average: a
+//! speed-up below target with a large run-queue wait means other work took the cores.
 //!
 //! Run: `cargo bench --bench batch` (Linux, for `/proc`). Trials are written to a temporary folder
 //! under the target directory and removed afterwards.
@@ -75,6 +76,28 @@ fn cpu_ticks(pid: u32) -> Option<u64> {
     Some(utime + stime)
 }
 
+/// Per thread of a process: nanoseconds spent waiting on a run queue for a CPU (second field
+/// of `/proc/<pid>/task/<tid>/schedstat`), so far.
+fn run_queue_wait_ns(pid: u32, by_thread: &mut std::collections::HashMap<String, u64>) {
+    let Ok(tasks) = std::fs::read_dir(format!("/proc/{pid}/task")) else {
+        return;
+    };
+    for task in tasks.flatten() {
+        let tid = task.file_name().to_string_lossy().into_owned();
+        let Ok(text) = std::fs::read_to_string(task.path().join("schedstat")) else {
+            continue;
+        };
+        if let Some(wait) = text
+            .split_whitespace()
+            .nth(1)
+            .and_then(|w| w.parse::<u64>().ok())
+        {
+            let slot = by_thread.entry(tid).or_default();
+            *slot = (*slot).max(wait);
+        }
+    }
+}
+
 /// The 1-minute load average: how busy the shared machine was.
 fn load_average() -> String {
     std::fs::read_to_string("/proc/loadavg")
@@ -88,6 +111,8 @@ struct Run {
     peak_kb: u64,
     /// CPU time of the batch process (all its threads), s, at 100 ticks per second.
     cpu_s: f64,
+    /// Time its threads were ready to run but waited for a CPU, s (summed over threads).
+    wait_s: f64,
 }
 
 /// Runs a batch on the release binary: wall time and peak resident memory.
@@ -106,6 +131,7 @@ fn run_batch(manifest: &Path, out: &Path, jobs: usize) -> Run {
         .expect("start gravline");
     let mut peak_kb = 0;
     let mut ticks = 0;
+    let mut waits = std::collections::HashMap::new();
     let status = loop {
         if let Some(kb) = vm_hwm_kb(child.id()) {
             peak_kb = peak_kb.max(kb);
@@ -113,6 +139,7 @@ fn run_batch(manifest: &Path, out: &Path, jobs: usize) -> Run {
         if let Some(t) = cpu_ticks(child.id()) {
             ticks = ticks.max(t);
         }
+        run_queue_wait_ns(child.id(), &mut waits);
         if let Some(status) = child.try_wait().expect("wait for gravline") {
             break status;
         }
@@ -124,6 +151,7 @@ fn run_batch(manifest: &Path, out: &Path, jobs: usize) -> Run {
         wall_s,
         peak_kb,
         cpu_s: ticks as f64 / 100.0,
+        wait_s: waits.values().sum::<u64>() as f64 * 1e-9,
     }
 }
 
@@ -152,10 +180,11 @@ fn main() {
 
     let line = |label: &str, r: &Run, n: usize| {
         format!(
-            "{label}: {:.2} s wall ({:.1} ms per trial), {:.2} s CPU, peak {:.1} MB, load average {}",
+            "{label}: {:.2} s wall ({:.1} ms per trial), {:.2} s CPU, {:.2} s waiting for a CPU, peak {:.1} MB, load average {}",
             r.wall_s,
             1e3 * r.wall_s / n as f64,
             r.cpu_s,
+            r.wait_s,
             r.peak_kb as f64 / 1024.0,
             load_average()
         )
