@@ -118,6 +118,19 @@ pub struct StoredSummary {
     #[serde(default)]
     pub warnings: Vec<String>,
     pub provenance: StoredProvenance,
+    /// Lift figures (trials with loads).
+    #[serde(default)]
+    pub lift: Option<StoredLift>,
+}
+
+/// `summary.json` → `lift`.
+#[derive(Clone, Debug, Deserialize)]
+pub struct StoredLift {
+    pub max_abs_com_midfoot_ap_m: Option<f64>,
+    pub mean_abs_com_midfoot_ap_m: Option<f64>,
+    pub time_outside_band_s: Option<f64>,
+    #[serde(default)]
+    pub reps: Vec<serde_json::Value>,
 }
 
 /// `summary.json` → `subject`.
@@ -163,6 +176,8 @@ pub struct StoredSteps {
     pub step_length_m: Option<f64>,
     pub step_width_m: Option<f64>,
     pub mos_ap_heel_strike_m: Option<f64>,
+    #[serde(default)]
+    pub mos_ml_heel_strike_m: Option<f64>,
     pub min_mos_ml_single_stance_m: Option<f64>,
     pub com_vertical_excursion_m: Option<f64>,
 }
@@ -275,17 +290,34 @@ fn named_cells(
         ("time_outside_bos_s", f(&|s| s.support.time_outside_bos_s)),
     ];
     for (side, names) in [("left", LEFT_STEP_COLUMNS), ("right", RIGHT_STEP_COLUMNS)] {
-        let [steps, length, width, ap, ml, vertical] = names;
+        let [steps, length, width, ap, ml_hs, ml, vertical] = names;
         cells.extend([
             (steps, i(&|s| s.side(side)?.steps)),
             (length, f(&|s| s.side(side)?.step_length_m)),
             (width, f(&|s| s.side(side)?.step_width_m)),
             (ap, f(&|s| s.side(side)?.mos_ap_heel_strike_m)),
+            (ml_hs, f(&|s| s.side(side)?.mos_ml_heel_strike_m)),
             (ml, f(&|s| s.side(side)?.min_mos_ml_single_stance_m)),
             (vertical, f(&|s| s.side(side)?.com_vertical_excursion_m)),
         ]);
     }
     cells.extend([
+        (
+            "lift_reps",
+            i(&|s| Some(s.lift.as_ref()?.reps.len() as i64)),
+        ),
+        (
+            "lift_max_abs_com_midfoot_ap_m",
+            f(&|s| s.lift.as_ref()?.max_abs_com_midfoot_ap_m),
+        ),
+        (
+            "lift_mean_abs_com_midfoot_ap_m",
+            f(&|s| s.lift.as_ref()?.mean_abs_com_midfoot_ap_m),
+        ),
+        (
+            "lift_time_outside_band_s",
+            f(&|s| s.lift.as_ref()?.time_outside_band_s),
+        ),
         ("table", t(&|s| s.provenance.model.table.as_deref())),
         ("body_mass_kg", f(&|s| s.provenance.model.body_mass_kg)),
         ("system_mass_kg", f(&|s| s.provenance.model.system_mass_kg)),
@@ -308,19 +340,21 @@ fn named_cells(
     cells
 }
 
-const LEFT_STEP_COLUMNS: [&str; 6] = [
+const LEFT_STEP_COLUMNS: [&str; 7] = [
     "left_steps",
     "left_step_length_m",
     "left_step_width_m",
     "left_mos_ap_heel_strike_m",
+    "left_mos_ml_heel_strike_m",
     "left_min_mos_ml_single_stance_m",
     "left_com_vertical_excursion_m",
 ];
-const RIGHT_STEP_COLUMNS: [&str; 6] = [
+const RIGHT_STEP_COLUMNS: [&str; 7] = [
     "right_steps",
     "right_step_length_m",
     "right_step_width_m",
     "right_mos_ap_heel_strike_m",
+    "right_mos_ml_heel_strike_m",
     "right_min_mos_ml_single_stance_m",
     "right_com_vertical_excursion_m",
 ];
