@@ -126,7 +126,10 @@ fn main() -> Res<()> {
     println!("(a) parse only, polars multi-threaded reader  {a_polars:8.3} s");
     println!("(a) fastest                                   {a:8.3} s");
     println!("(b) process_file end to end, no plots         {b:8.3} s");
-    println!("(b)/(a)                                       {:8.2}   (target <= 1.5)", b / a);
+    println!(
+        "(b)/(a)                                       {:8.2}   (target <= 1.5)",
+        b / a
+    );
 
     let (us_frame, n_segments) = core_per_frame(&csv_path, &setup, args.reps)?;
     println!(
@@ -200,7 +203,10 @@ fn parse_csv(path: &Path, parse: fn(&[u8]) -> f64, n_numbers: usize) -> Res<Vec<
     let mut rec = csv::ByteRecord::new();
     let mut values = Vec::with_capacity(n_numbers);
     while rdr.read_byte_record(&mut rec)? {
-        values.extend(rec.iter().map(|f| if f.is_empty() { f64::NAN } else { parse(f) }));
+        values.extend(
+            rec.iter()
+                .map(|f| if f.is_empty() { f64::NAN } else { parse(f) }),
+        );
     }
     if values.len() != n_numbers {
         return Err(format!("read {} numbers, expected {n_numbers}", values.len()).into());
@@ -251,7 +257,8 @@ fn core_per_frame(path: &Path, setup: &Setup, reps: usize) -> Res<(f64, usize)> 
         &FOOT_POINTS,
     )?;
     let com_model = ComModel::new(labels, &trial.file, config, &body)?;
-    let (mut markers, _) = gravline::signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
+    let (mut markers, _) =
+        gravline::signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
     if let Some(cutoff_hz) = config.cutoff_hz {
         gravline::signal::low_pass(&mut markers, trial.rate_hz, cutoff_hz)?;
     }

@@ -6,7 +6,7 @@
 //! centers, segments and CoM, then derivatives, XCoM, and the base of support.
 
 use crate::anthropometry::SegmentTable;
-use crate::body::model::FOOT_POINTS;
+use crate::body::model::{PointId, FOOT_POINTS};
 use crate::body::{BodyModel, LandmarkError};
 use crate::com::{self, ComError, ComModel, P};
 use crate::config::{Config, Subject, XcomLength};
@@ -108,13 +108,137 @@ pub fn run_trial(
     table: &SegmentTable,
     options: RunOptions,
 ) -> Result<TrialResult, PipelineError> {
-    let labels = &trial.markers.labels;
-    // Everything that can be missing is found out before any computation.
-    let mut body = BodyModel::build(labels, &trial.file, config, subject, table, &FOOT_POINTS)?;
-    let com_model = ComModel::new(labels, &trial.file, config, &body)?;
-    let mut warnings = trial.warnings.clone();
+    let models = Models::resolve(trial, config, subject, table)?;
+    let (markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
+    run_filled(
+        trial,
+        models,
+        markers,
+        gaps,
+        config,
+        table,
+        options,
+        trial_threads(),
+    )
+}
 
-    let (mut markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
+/// [`run_trial`] on a trial it may take apart: the raw marker tracks are freed while they are
+/// filled (the same result, less memory).
+fn run_read_trial(
+    mut trial: Trial,
+    config: &Config,
+    subject: &Subject,
+    table: &SegmentTable,
+    options: RunOptions,
+    threads: usize,
+) -> Result<TrialResult, PipelineError> {
+    let models = Models::resolve(&trial, config, subject, table)?;
+    let raw = crate::trial::RawMarkers {
+        labels: trial.markers.labels.clone(),
+        tracks: std::mem::take(&mut trial.markers.tracks),
+    };
+    let (markers, gaps) = signal::fill_gaps_owned(raw, &trial.times_s, config.max_gap_s, threads);
+    run_filled(
+        &trial, models, markers, gaps, config, table, options, threads,
+    )
+}
+
+/// The body and CoM models of a trial: everything that can be missing, found out before any
+/// computation.
+struct Models {
+    body: BodyModel,
+    com: ComModel,
+}
+
+impl Models {
+    fn resolve(
+        trial: &Trial,
+        config: &Config,
+        subject: &Subject,
+        table: &SegmentTable,
+    ) -> Result<Models, PipelineError> {
+        let labels = &trial.markers.labels;
+        let body = BodyModel::build(labels, &trial.file, config, subject, table, &FOOT_POINTS)?;
+        let com = ComModel::new(labels, &trial.file, config, &body)?;
+        Ok(Models { body, com })
+    }
+}
+
+/// Frames per range of the per-frame work shared among threads (fewer frames run on one).
+const FRAMES_PER_RANGE_MIN: usize = 4096;
+
+type Series = Vec<Option<[f64; 3]>>;
+/// The part of every series that one range of frames fills.
+type SeriesParts<'a> = Vec<&'a mut [Option<[f64; 3]>]>;
+
+/// The per-frame work over the frames from `start` on, one per element of the `out` slices:
+/// each frame's markers (those in `used`) into the body model, its points into the segments
+/// and the CoM. `out` holds, in this order, the system CoM, the body CoM, each load, each
+/// group, each segment (when `segments`) and the foot points `foot_ids`.
+fn frame_series(
+    models: &Models,
+    markers: &signal::Markers,
+    used: &[usize],
+    start: usize,
+    out: &mut [&mut [Option<[f64; 3]>]],
+    foot_ids: &[PointId],
+    segments: bool,
+) {
+    let (body, com_model) = (&models.body, &models.com);
+    let n = out.first().map_or(0, |s| s.len());
+    let mut frame_markers: Vec<Option<[f64; 3]>> = vec![None; markers.labels.len()];
+    let mut samples: Vec<(usize, signal::Samples)> = used
+        .iter()
+        .filter_map(|&i| Some((i, markers.tracks.get(i)?.samples_from(start))))
+        .collect();
+    let mut points = Vec::with_capacity(body.n_points());
+    let mut seg = Vec::with_capacity(body.segments.len());
+    for j in 0..n {
+        for (i, s) in &mut samples {
+            if let Some(slot) = frame_markers.get_mut(*i) {
+                *slot = s.next().flatten();
+            }
+        }
+        body.evaluate(&frame_markers, &mut points);
+        let c = com_model.frame(body, &points, &frame_markers, &mut seg);
+        let segment_coms: &[Option<P>] = if segments { &seg } else { &[] };
+        let values = [c.system, c.body]
+            .into_iter()
+            .chain(c.loads.iter().copied())
+            .chain(c.groups.iter().copied())
+            .chain(segment_coms.iter().copied())
+            .map(|p| p.map(to_array))
+            .chain(
+                foot_ids
+                    .iter()
+                    .map(|&id| points.get(id).copied().flatten().map(to_array)),
+            );
+        for (series, v) in out.iter_mut().zip(values) {
+            if let Some(slot) = series.get_mut(j) {
+                *slot = v;
+            }
+        }
+    }
+}
+
+/// Everything after gap filling (module doc, order of operations).
+#[allow(clippy::too_many_arguments)]
+fn run_filled(
+    trial: &Trial,
+    models: Models,
+    mut markers: signal::Markers,
+    gaps: Vec<signal::FilledGap>,
+    config: &Config,
+    table: &SegmentTable,
+    options: RunOptions,
+    threads: usize,
+) -> Result<TrialResult, PipelineError> {
+    let labels = &trial.markers.labels;
+    let Models {
+        body: mut body_model,
+        com: com_model,
+    } = models;
+    let mut warnings = trial.warnings.clone();
     warnings.extend(signal::filled_warnings(
         &gaps,
         labels,
@@ -122,7 +246,7 @@ pub fn run_trial(
         trial.rate_hz,
     ));
     if let Some(cutoff_hz) = config.cutoff_hz {
-        signal::low_pass(&mut markers, trial.rate_hz, cutoff_hz).map_err(|source| {
+        signal::low_pass_on(&mut markers, trial.rate_hz, cutoff_hz, threads).map_err(|source| {
             PipelineError::Signal {
                 file: trial.file.clone(),
                 source,
@@ -131,48 +255,74 @@ pub fn run_trial(
     }
 
     let n = trial.n_frames();
-    let mut frame_markers: Vec<Option<[f64; 3]>> = vec![None; labels.len()];
-    let mut used = body.markers_used.clone();
+    let mut used = body_model.markers_used.clone();
     for load in &com_model.loads {
         used.extend(load.marker_indices());
     }
     used.sort_unstable();
     used.dedup();
-    body.measure_leg_length(&markers);
-    warnings.extend(body.warnings.iter().cloned());
+    body_model.measure_leg_length(&markers);
+    warnings.extend(body_model.warnings.iter().cloned());
 
-    let mut points = Vec::with_capacity(body.n_points());
-    let mut seg = Vec::with_capacity(body.segments.len());
-    let mut system = Vec::with_capacity(n);
-    let mut body_com = Vec::with_capacity(n);
-    let mut loads = vec![Vec::with_capacity(n); com_model.loads.len()];
-    let mut groups = vec![Vec::with_capacity(n); com_model.groups.len()];
-    let mut segments = if options.segments {
-        vec![Vec::with_capacity(n); body.segments.len()]
-    } else {
-        Vec::new()
+    let models = Models {
+        body: body_model,
+        com: com_model,
     };
-    let mut foot = support::FootFrames::new(&body, n);
-    for frame in 0..n {
-        for &i in &used {
-            frame_markers[i] = markers.tracks[i].at(frame);
+    let (n_loads, n_groups) = (models.com.loads.len(), models.com.groups.len());
+    let n_segments = if options.segments {
+        models.body.segments.len()
+    } else {
+        0
+    };
+    let mut series: Vec<Series> = vec![vec![None; n]; 2 + n_loads + n_groups + n_segments];
+    let mut foot = support::FootFrames::with_frames(&models.body, n);
+    let foot_ids = foot.point_ids();
+    // Frames are independent: ranges of them run at once, each into its part of every series.
+    let n_ranges = threads.clamp(1, (n / FRAMES_PER_RANGE_MIN).max(1));
+    let bounds: Vec<usize> = (0..=n_ranges).map(|k| n * k / n_ranges).collect();
+    let mut ranges: Vec<(usize, SeriesParts)> = bounds
+        .iter()
+        .take(n_ranges)
+        .map(|&b| (b, Vec::new()))
+        .collect();
+    for whole in series.iter_mut().chain(foot.series_mut()) {
+        let mut rest = whole.as_mut_slice();
+        for (range, w) in ranges.iter_mut().zip(bounds.windows(2)) {
+            let (part, tail) = std::mem::take(&mut rest).split_at_mut(w[1] - w[0]);
+            range.1.push(part);
+            rest = tail;
         }
-        body.evaluate(&frame_markers, &mut points);
-        let c = com_model.frame(&body, &points, &frame_markers, &mut seg);
-        system.push(c.system.map(to_array));
-        body_com.push(c.body.map(to_array));
-        for (series, p) in loads.iter_mut().zip(&c.loads) {
-            series.push(p.map(to_array));
-        }
-        for (series, p) in groups.iter_mut().zip(&c.groups) {
-            series.push(p.map(to_array));
-        }
-        for (series, p) in segments.iter_mut().zip(&seg) {
-            series.push(p.map(to_array));
-        }
-        foot.push(&points);
     }
+    signal::in_groups(ranges, n_ranges, |group| {
+        for (start, mut out) in group {
+            frame_series(
+                &models,
+                &markers,
+                &used,
+                start,
+                &mut out,
+                &foot_ids,
+                options.segments,
+            );
+        }
+    });
     drop(markers);
+    let Models {
+        body,
+        com: com_model,
+    } = models;
+    let mut series = series.into_iter();
+    let mut take = |k: usize| -> Vec<Series> { series.by_ref().take(k).collect() };
+    let (system, body_com) = {
+        let mut two = take(2).into_iter();
+        (
+            two.next().unwrap_or_default(),
+            two.next().unwrap_or_default(),
+        )
+    };
+    let loads = take(n_loads);
+    let groups = take(n_groups);
+    let segments = take(n_segments);
 
     let dt = 1.0 / trial.rate_hz;
     let (velocity, acceleration) = signal::derivative::of_series(&system, dt);
@@ -297,6 +447,16 @@ pub enum Error {
     },
 }
 
+/// Threads one trial may use: every core, except on a worker of a thread pool (a batch, which
+/// already runs one trial per core), where a trial keeps to its own thread.
+pub fn trial_threads() -> usize {
+    if rayon::current_thread_index().is_some() {
+        1
+    } else {
+        std::thread::available_parallelism().map_or(1, |n| n.get())
+    }
+}
+
 /// A validated configuration, subject and table: everything a trial needs besides its file.
 #[derive(Clone, Debug)]
 pub struct Setup {
@@ -348,25 +508,36 @@ pub fn process_file(
         path: path.display().to_string(),
         source,
     })?;
-    let input_sha256 = crate::report::sha256_hex(&bytes);
     let stem = path
         .file_stem()
         .map_or("trial".to_string(), |s| s.to_string_lossy().into_owned());
-    let trial = crate::trial::read_trial_from(
-        bytes.as_slice(),
-        &path.display().to_string(),
-        &stem,
-        &setup.config.read_options(),
-    )?;
+    let threads = trial_threads();
+    // The digest is taken on its own thread while the numbers are parsed.
+    let (input_sha256, trial) = std::thread::scope(|s| {
+        let digest = (threads > 1).then(|| s.spawn(|| crate::report::sha256_hex(&bytes)));
+        let trial = crate::trial::read_trial_bytes(
+            &bytes,
+            &path.display().to_string(),
+            &stem,
+            &setup.config.read_options(),
+            threads,
+        );
+        let sha = match digest.map(|d| d.join()) {
+            Some(Ok(sha)) => sha,
+            _ => crate::report::sha256_hex(&bytes),
+        };
+        (sha, trial)
+    });
+    let trial = trial?;
     drop(bytes);
-    let result = run_trial(
-        &trial,
+    let result = run_read_trial(
+        trial,
         &setup.config,
         &setup.subject,
         &setup.table,
         options.run,
+        threads,
     )?;
-    drop(trial);
     let summary =
         crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());
     crate::report::write_outputs(dir, &result, &summary, &options.plots)?;

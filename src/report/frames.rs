@@ -1,7 +1,8 @@
 //! `frames.csv` and `steps.csv` writers. Columns in the order of DESIGN.md 8; metres, m/s,
-//! m/s^2, m^2; missing values are empty cells; booleans are `true` / `false`. Rows are written
-//! straight into the writer, with no allocation per row.
+//! m/s^2, m^2; missing values are empty cells; booleans are `true` / `false`. Numbers have six
+//! decimals (the text of `{:.6}`); no row allocates.
 
+use super::fixed::push_fixed6;
 use crate::pipeline::TrialResult;
 use std::io::{self, Write};
 
@@ -63,65 +64,87 @@ fn opt(w: &mut impl Write, v: Option<f64>) -> io::Result<()> {
     }
 }
 
-fn opt3(w: &mut impl Write, v: Option<&[f64; 3]>) -> io::Result<()> {
-    for k in 0..3 {
-        opt(w, v.map(|p| p[k]))?;
-    }
-    Ok(())
+/// Bytes of rows gathered before each write to the writer.
+const CHUNK_BYTES: usize = 1 << 16;
+
+/// One `frames.csv` row at a time, appended to a reused buffer.
+struct Row<'a> {
+    buf: &'a mut Vec<u8>,
 }
 
-/// Writes `frames.csv`.
+impl Row<'_> {
+    /// `,<v>` with six decimals, or `,` for a missing or non-finite value.
+    fn opt(&mut self, v: Option<f64>) {
+        self.buf.push(b',');
+        if let Some(v) = v.filter(|v| v.is_finite()) {
+            push_fixed6(self.buf, v);
+        }
+    }
+
+    fn opt3(&mut self, v: Option<&[f64; 3]>) {
+        for k in 0..3 {
+            self.opt(v.map(|p| p[k]));
+        }
+    }
+
+    fn flag(&mut self, b: bool) {
+        self.buf
+            .extend_from_slice(if b { b",true" } else { b",false" });
+    }
+}
+
+fn get3(v: &[Option<[f64; 3]>], f: usize) -> Option<&[f64; 3]> {
+    v.get(f).and_then(Option::as_ref)
+}
+
+/// Writes `frames.csv`: rows are formatted into one reused buffer (numbers by
+/// [`push_fixed6`], the same text as `{:.6}`) and handed to `w` in 64 KiB chunks.
 pub fn write_frames(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
     writeln!(w, "{}", frames_header(r).join(","))?;
     let s = &r.support;
     let at = |v: &[Option<f64>], f: usize| v.get(f).copied().flatten();
-    for f in 0..r.n_frames() {
-        write!(w, "{:.6},{}", r.times_s[f], r.is_valid(f))?;
-        opt3(&mut w, r.com[f].as_ref())?;
-        let v = r.velocity[f].as_ref();
-        opt3(&mut w, v)?;
-        opt(
-            &mut w,
-            v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()),
-        )?;
-        opt3(&mut w, r.acceleration[f].as_ref())?;
-        opt3(&mut w, r.xcom[f].as_ref())?;
-        opt(&mut w, at(&s.bos_area_m2, f))?;
-        opt(&mut w, at(&s.bos_margin_m, f))?;
-        opt(&mut w, at(&s.mos_m, f))?;
-        opt(&mut w, at(&s.mos_ap_m, f))?;
-        opt(&mut w, at(&s.mos_ml_m, f))?;
+    let lift = r.lift.as_ref();
+    let mut buf = Vec::with_capacity(CHUNK_BYTES + 4096);
+    for (f, &t) in r.times_s.iter().enumerate() {
+        push_fixed6(&mut buf, t);
+        let mut row = Row { buf: &mut buf };
+        row.flag(r.is_valid(f));
+        row.opt3(get3(&r.com, f));
+        let v = get3(&r.velocity, f);
+        row.opt3(v);
+        row.opt(v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()));
+        row.opt3(get3(&r.acceleration, f));
+        row.opt3(get3(&r.xcom, f));
+        row.opt(at(&s.bos_area_m2, f));
+        row.opt(at(&s.bos_margin_m, f));
+        row.opt(at(&s.mos_m, f));
+        row.opt(at(&s.mos_ap_m, f));
+        row.opt(at(&s.mos_ml_m, f));
         for side in 0..2 {
-            write!(w, ",{}", s.contact[side].get(f).copied().unwrap_or(false))?;
+            row.flag(s.contact[side].get(f).copied().unwrap_or(false));
         }
         if !r.load_names.is_empty() {
-            opt3(&mut w, r.body_com[f].as_ref())?;
+            row.opt3(get3(&r.body_com, f));
             for l in &r.loads {
-                opt3(&mut w, l[f].as_ref())?;
+                row.opt3(get3(l, f));
             }
-            let lift = r.lift.as_ref();
-            opt3(
-                &mut w,
-                lift.and_then(|l| l.midfoot.get(f)).and_then(Option::as_ref),
-            )?;
-            opt(
-                &mut w,
-                lift.and_then(|l| l.com_midfoot_ap_m.get(f).copied().flatten()),
-            )?;
-            opt(
-                &mut w,
-                lift.and_then(|l| l.bar_midfoot_ap_m.get(f).copied().flatten()),
-            )?;
+            row.opt3(lift.and_then(|l| get3(&l.midfoot, f)));
+            row.opt(lift.and_then(|l| at(&l.com_midfoot_ap_m, f)));
+            row.opt(lift.and_then(|l| at(&l.bar_midfoot_ap_m, f)));
         }
         for g in &r.groups {
-            opt3(&mut w, g[f].as_ref())?;
+            row.opt3(get3(g, f));
         }
         for g in &r.segments {
-            opt3(&mut w, g[f].as_ref())?;
+            row.opt3(get3(g, f));
         }
-        w.write_all(b"\n")?;
+        buf.push(b'\n');
+        if buf.len() >= CHUNK_BYTES {
+            w.write_all(&buf)?;
+            buf.clear();
+        }
     }
-    Ok(())
+    w.write_all(&buf)
 }
 
 /// Writes `reps.csv`: one row per repetition of the bar (lifts).

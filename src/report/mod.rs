@@ -5,6 +5,7 @@
 //! Writers take `impl Write`; [`write_atomic`] owns the files: it writes to a temporary name
 //! in the same folder and renames, so an interrupted run never leaves a truncated file.
 
+pub mod fixed;
 pub mod frames;
 pub mod plots;
 pub mod summary;

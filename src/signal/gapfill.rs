@@ -53,16 +53,69 @@ const GAP_TOLERANCE_FRAMES: f64 = 1e-6;
 pub fn fill_gaps(raw: &RawMarkers, times_s: &[f64], max_gap_s: f64) -> (Markers, Vec<FilledGap>) {
     let n_frames = times_s.len();
     let mut filled = Vec::new();
+    let mut spline = NaturalSpline::default();
     let tracks = raw
         .tracks
         .iter()
         .enumerate()
-        .map(|(marker, samples)| fill_track(marker, samples, times_s, max_gap_s, &mut filled))
+        .map(|(marker, samples)| {
+            fill_track(
+                marker,
+                samples,
+                times_s,
+                max_gap_s,
+                &mut filled,
+                &mut spline,
+            )
+        })
         .collect();
     let markers = Markers {
         labels: raw.labels.clone(),
         tracks,
         n_frames,
+    };
+    (markers, filled)
+}
+
+/// As [`fill_gaps`], taking the raw tracks by value: each is freed as soon as it is filled, so
+/// the raw and the filled markers are not held in full at the same time, and the markers are
+/// shared out among up to `threads` threads. The result does not depend on the thread count.
+pub fn fill_gaps_owned(
+    raw: RawMarkers,
+    times_s: &[f64],
+    max_gap_s: f64,
+    threads: usize,
+) -> (Markers, Vec<FilledGap>) {
+    let RawMarkers { labels, tracks } = raw;
+    let items: Vec<(usize, Vec<Option<[f64; 3]>>)> = tracks.into_iter().enumerate().collect();
+    let groups = super::in_groups(items, threads, |group| {
+        let mut filled = Vec::new();
+        let mut spline = NaturalSpline::default();
+        let tracks: Vec<Track> = group
+            .into_iter()
+            .map(|(marker, samples)| {
+                fill_track(
+                    marker,
+                    &samples,
+                    times_s,
+                    max_gap_s,
+                    &mut filled,
+                    &mut spline,
+                )
+            })
+            .collect();
+        (tracks, filled)
+    });
+    let mut tracks = Vec::with_capacity(labels.len());
+    let mut filled = Vec::new();
+    for (t, f) in groups {
+        tracks.extend(t);
+        filled.extend(f);
+    }
+    let markers = Markers {
+        labels,
+        tracks,
+        n_frames: times_s.len(),
     };
     (markers, filled)
 }
@@ -152,6 +205,7 @@ fn fill_track(
     times_s: &[f64],
     max_gap_s: f64,
     filled: &mut Vec<FilledGap>,
+    spline: &mut NaturalSpline<3>,
 ) -> Track {
     let present = present_runs(samples, times_s.len());
     let mut runs = Vec::with_capacity(present.len());
@@ -163,7 +217,7 @@ fn fill_track(
             j += 1;
         }
         let stretch = &present[i..=j];
-        match splined_run(stretch, samples, times_s) {
+        match splined_run(stretch, samples, times_s, spline) {
             Some(run) => {
                 for w in stretch.windows(2) {
                     filled.push(FilledGap {
@@ -192,23 +246,32 @@ fn measured_run(p: Present, samples: &[Option<[f64; 3]>]) -> Run {
 }
 
 /// One run over the whole stretch, missing frames from the natural spline through its present
-/// samples. A stretch of a single run needs no spline and is copied. `None` if the spline
-/// cannot be built (fewer than 2 knots or knot times not increasing).
-fn splined_run(stretch: &[Present], samples: &[Option<[f64; 3]>], times_s: &[f64]) -> Option<Run> {
+/// samples (fitted in `spline`, whose memory is reused). A stretch of a single run needs no
+/// spline and is copied. `None` if the spline cannot be built (fewer than 2 knots or knot times
+/// not increasing).
+fn splined_run(
+    stretch: &[Present],
+    samples: &[Option<[f64; 3]>],
+    times_s: &[f64],
+    spline: &mut NaturalSpline<3>,
+) -> Option<Run> {
     let (first, last) = (stretch.first()?, stretch.last()?);
     if stretch.len() == 1 {
         return Some(measured_run(*first, samples));
     }
-    let n_knots: usize = stretch.iter().map(|p| p.end - p.start).sum();
-    let mut knots = Vec::with_capacity(n_knots);
-    let mut values = Vec::with_capacity(n_knots);
-    for p in stretch {
-        for (f, &t) in times_s.iter().enumerate().take(p.end).skip(p.start) {
-            knots.push(t);
-            values.push(sample(samples, f)?);
+    let mut complete = true;
+    let points = stretch.iter().flat_map(|p| p.start..p.end).map_while(|f| {
+        match (times_s.get(f), sample(samples, f)) {
+            (Some(&t), Some(v)) => Some((t, v)),
+            _ => {
+                complete = false;
+                None
+            }
         }
+    });
+    if !spline.refit(points) || !complete {
+        return None;
     }
-    let spline = NaturalSpline::new(knots, values)?;
     let xyz = (first.start..last.end)
         .map(|f| sample(samples, f).unwrap_or_else(|| spline.eval(times_s[f])))
         .collect();

@@ -19,10 +19,44 @@ pub mod gapfill;
 pub mod residual;
 pub mod spline;
 
-pub use butterworth::{design, filtfilt, low_pass, Coefficients};
-pub use gapfill::{fill_gaps, filled_warnings, FilledGap};
+pub use butterworth::{design, filtfilt, low_pass, low_pass_on, Coefficients};
+pub use gapfill::{fill_gaps, fill_gaps_owned, filled_warnings, FilledGap};
 pub use residual::{default_cutoffs, residuals, suggest, ResidualSuggestion};
 pub use spline::NaturalSpline;
+
+/// Runs `f` on `items` cut into up to `threads` runs of consecutive items, each run on a thread
+/// of its own (the first on the calling thread); the results in the order of the items.
+pub(crate) fn in_groups<T: Send, U: Send>(
+    mut items: Vec<T>,
+    threads: usize,
+    f: impl Fn(Vec<T>) -> U + Sync,
+) -> Vec<U> {
+    let size = items.len().div_ceil(threads.max(1)).max(1);
+    let mut groups = Vec::new();
+    while items.len() > size {
+        let rest = items.split_off(size);
+        groups.push(std::mem::replace(&mut items, rest));
+    }
+    groups.push(items);
+    if groups.len() == 1 {
+        return groups.into_iter().map(&f).collect();
+    }
+    std::thread::scope(|s| {
+        let mut groups = groups.into_iter();
+        let first = groups.next();
+        let f = &f;
+        let handles: Vec<_> = groups.map(|g| s.spawn(move || f(g))).collect();
+        let mut out: Vec<U> = first.into_iter().map(f).collect();
+        for h in handles {
+            match h.join() {
+                Ok(u) => out.push(u),
+                // A panic in `f` is a bug: pass it on.
+                Err(panic) => std::panic::resume_unwind(panic),
+            }
+        }
+        out
+    })
+}
 
 /// Errors of the signal stage.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -82,6 +116,24 @@ impl Track {
         run.xyz.get(frame - run.start).copied()
     }
 
+    /// The samples from frame `start` on, one per frame (`None` outside every run), as
+    /// [`Track::at`] gives them but without a search per frame. The iterator never ends: take
+    /// as many frames as needed.
+    ///
+    /// ```
+    /// use gravline::signal::{Run, Track};
+    /// let track = Track { runs: vec![Run { start: 2, xyz: vec![[1.0, 2.0, 3.0]] }] };
+    /// let got: Vec<_> = track.samples_from(1).take(3).collect();
+    /// assert_eq!(got, vec![None, Some([1.0, 2.0, 3.0]), None]);
+    /// ```
+    pub fn samples_from(&self, start: usize) -> Samples<'_> {
+        let first = self.runs.partition_point(|r| r.end() <= start);
+        Samples {
+            runs: self.runs.get(first..).unwrap_or_default(),
+            frame: start,
+        }
+    }
+
     /// The runs, mutable in value but not in layout (a filter changes samples, not frames).
     pub fn runs_mut(&mut self) -> &mut [Run] {
         &mut self.runs
@@ -101,6 +153,33 @@ impl Track {
     /// Number of frames covered by runs.
     pub fn n_known(&self) -> usize {
         self.runs.iter().map(|r| r.xyz.len()).sum()
+    }
+}
+
+/// The samples of a [`Track`] frame after frame (see [`Track::samples_from`]).
+#[derive(Clone, Debug)]
+pub struct Samples<'a> {
+    /// The runs that do not end before `frame`.
+    runs: &'a [Run],
+    frame: usize,
+}
+
+impl Iterator for Samples<'_> {
+    type Item = Option<[f64; 3]>;
+
+    fn next(&mut self) -> Option<Option<[f64; 3]>> {
+        while let Some((run, rest)) = self.runs.split_first() {
+            if run.end() > self.frame {
+                break;
+            }
+            self.runs = rest;
+        }
+        let sample = self.runs.first().and_then(|run| {
+            let k = self.frame.checked_sub(run.start)?;
+            run.xyz.get(k).copied()
+        });
+        self.frame += 1;
+        Some(sample)
     }
 }
 
@@ -158,6 +237,26 @@ mod tests {
             assert_eq!(*s, t.at(f));
         }
         assert_eq!(t.n_known(), 3);
+    }
+
+    #[test]
+    fn samples_from_match_at() {
+        let t = track();
+        for start in 0..8 {
+            let got: Vec<_> = t.samples_from(start).take(8).collect();
+            let want: Vec<_> = (start..start + 8).map(|f| t.at(f)).collect();
+            assert_eq!(got, want, "from {start}");
+        }
+    }
+
+    #[test]
+    fn groups_keep_the_order_of_the_items() {
+        for threads in 1..5 {
+            let sums = in_groups((0..10).collect(), threads, |g: Vec<i32>| g);
+            assert_eq!(sums.concat(), (0..10).collect::<Vec<_>>(), "{threads}");
+            assert!(sums.len() <= threads);
+        }
+        assert_eq!(in_groups(Vec::<i32>::new(), 2, |g| g.len()), vec![0]);
     }
 
     #[test]

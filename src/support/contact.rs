@@ -162,12 +162,13 @@ pub fn floor_level(heights_m: impl Iterator<Item = f64>, percentile: f64) -> Opt
     if x.is_empty() {
         return None;
     }
-    x.sort_by(f64::total_cmp);
     let r = percentile / 100.0 * (x.len() - 1) as f64;
-    let lo = r.floor() as usize;
+    let lo = (r.floor() as usize).min(x.len() - 1);
     let frac = r - r.floor();
-    let below = x[lo];
-    Some(match x.get(lo + 1) {
+    // The order statistics `lo` and `lo + 1` (a selection, not a full sort).
+    let (_, &mut below, rest) = x.select_nth_unstable_by(lo, f64::total_cmp);
+    let above = rest.iter().copied().min_by(f64::total_cmp);
+    Some(match above {
         Some(above) if frac > 0.0 => below + frac * (above - below),
         _ => below,
     })

@@ -97,6 +97,45 @@ impl FootFrames {
         }
     }
 
+    /// Foot series of `n_frames` frames, every sample missing until set through
+    /// [`FootFrames::series_mut`] (in parallel over frames, where [`FootFrames::push`] goes
+    /// frame after frame).
+    pub fn with_frames(body: &BodyModel, n_frames: usize) -> FootFrames {
+        let mut f = FootFrames::new(body, 0);
+        for series in f.series_mut() {
+            series.resize(n_frames, None);
+        }
+        f
+    }
+
+    /// The model points of the series this trial has (found foot points, then the sacrum), in
+    /// the order of [`FootFrames::series_mut`].
+    pub fn point_ids(&self) -> Vec<PointId> {
+        self.ids
+            .iter()
+            .flatten()
+            .chain(std::iter::once(&self.sacrum_id))
+            .flatten()
+            .copied()
+            .collect()
+    }
+
+    /// The series of [`FootFrames::point_ids`], in that order.
+    pub fn series_mut(&mut self) -> Vec<&mut Vec<Option<[f64; 3]>>> {
+        let mut out: Vec<&mut Vec<Option<[f64; 3]>>> = self
+            .ids
+            .iter()
+            .flatten()
+            .zip(self.points.iter_mut().flatten())
+            .filter(|(id, _)| id.is_some())
+            .map(|(_, series)| series)
+            .collect();
+        if self.sacrum_id.is_some() {
+            out.push(&mut self.sacrum);
+        }
+        out
+    }
+
     /// Whether any foot point was found.
     pub fn has_feet(&self) -> bool {
         self.ids.iter().flatten().any(Option::is_some)
