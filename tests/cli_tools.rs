@@ -1,26 +1,13 @@
 //! The helper commands: `cutoff`, `tables`, `landmarks`, `config --print-default`.
 
 use assert_cmd::Command;
-use std::path::PathBuf;
 
 fn gravline() -> Command {
     Command::cargo_bin("gravline").unwrap()
 }
 
-fn realdata_dir() -> Option<PathBuf> {
-    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../shared/realdata");
-    let dir = if dir.exists() {
-        dir
-    } else {
-        PathBuf::from("/work/shared/realdata")
-    };
-    if dir.exists() {
-        Some(dir)
-    } else {
-        eprintln!("note: ../shared/realdata not present; real-data check skipped");
-        None
-    }
-}
+mod common;
+use common::realdata_dir;
 
 /// Residual analysis of the real walk (150 Hz, mm): marker cut-offs of walking lie around
 /// 6 Hz (reference/methods.md 4: "markers about 6 Hz in walking"); the band checked is 3-12 Hz,

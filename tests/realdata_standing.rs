@@ -3,22 +3,9 @@
 
 use gravline::config::{Config, RawConfig, Subject};
 use gravline::pipeline::{process_file, OutputOptions, Setup};
-use std::path::PathBuf;
 
-fn realdata_dir() -> Option<PathBuf> {
-    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../shared/realdata");
-    let dir = if dir.exists() {
-        dir
-    } else {
-        PathBuf::from("/work/shared/realdata")
-    };
-    if dir.exists() {
-        Some(dir)
-    } else {
-        eprintln!("note: ../shared/realdata not present; real-data check skipped");
-        None
-    }
-}
+mod common;
+use common::realdata_dir;
 
 /// The marker set has no arms and no toe-tip markers: arms hang (DESIGN.md 5) and the toe tips
 /// are virtual landmarks along heel -> 2nd metatarsal head.

@@ -2,6 +2,23 @@
 #![allow(dead_code)]
 
 use gravline::trial::{RawMarkers, Trial, UpAxis};
+use std::path::PathBuf;
+
+/// ../shared/realdata (the real recordings, read in place), or `None` with a note when absent.
+pub fn realdata_dir() -> Option<PathBuf> {
+    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../shared/realdata");
+    let dir = if dir.exists() {
+        dir
+    } else {
+        PathBuf::from("/work/shared/realdata")
+    };
+    if dir.exists() {
+        Some(dir)
+    } else {
+        eprintln!("note: ../shared/realdata not present; real-data check skipped");
+        None
+    }
+}
 
 /// A static trial: every marker at a fixed position for `frames` frames at 100 Hz.
 pub fn static_trial(points: &[(&str, [f64; 3])], frames: usize) -> Trial {
