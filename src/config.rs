@@ -77,6 +77,7 @@ pub struct RawSupport {
     pub min_flight_s: Option<f64>,
     pub xcom_length: Option<RawLength>,
     pub midfoot_band_m: Option<f64>,
+    pub gait_events: Option<String>,
 }
 
 /// `[[load]]`: an external mass.
@@ -249,6 +250,20 @@ pub struct SupportConfig {
     pub min_flight_s: Option<f64>,
     /// Mid-foot band half-width for lifts.
     pub midfoot_band_m: Option<f64>,
+    /// How heel strikes and toe-offs are found in walking trials.
+    pub gait_events: GaitEventMethod,
+}
+
+/// Gait-event method of walking trials (`[support] gait_events`).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum GaitEventMethod {
+    /// Zeni et al. 2008 coordinate method alone (`"zeni"`).
+    Zeni,
+    /// Zeni et al. 2008 pre-detection refined by the speed thresholds of Bonci et al. 2022
+    /// (`"zeni-bonci"`, the default).
+    #[default]
+    ZeniBonci,
 }
 
 /// Pendulum length for the XCoM (Hof 2005).
@@ -410,6 +425,15 @@ impl Config {
                 )))
             }
         };
+        let gait_events = match s.gait_events.as_deref() {
+            None | Some("zeni-bonci") => GaitEventMethod::ZeniBonci,
+            Some("zeni") => GaitEventMethod::Zeni,
+            Some(w) => {
+                return Err(invalid(format!(
+                    "[support] gait_events = `{w}`; give \"zeni-bonci\" or \"zeni\""
+                )))
+            }
+        };
         let mut loads = Vec::new();
         for l in &raw.load {
             if !(l.mass_kg >= 0.0 && l.mass_kg.is_finite()) {
@@ -499,6 +523,7 @@ impl Config {
                 min_contact_s: s.min_contact_s,
                 min_flight_s: s.min_flight_s,
                 midfoot_band_m: s.midfoot_band_m,
+                gait_events,
             },
             xcom_length,
             loads,
@@ -648,6 +673,7 @@ max_gap_s = 0.10      # longest interior gap bridged by the cubic spline
 # min_flight_s = 0.05     # shorter flights are removed
 xcom_length = "leg"       # pendulum length for the XCoM: "leg" or metres
 # midfoot_band_m = 0.05   # lifts: half-width of the mid-foot band
+gait_events = "zeni-bonci" # walking: "zeni-bonci" (Zeni 2008 refined by Bonci 2022) or "zeni"
 
 # [[load]]                 # an external mass (barbell, dumbbell)
 # name = "bar"
@@ -685,6 +711,21 @@ mod tests {
             .to_string();
         assert!(e.starts_with("c.toml:") && e.contains("cutof_hz"), "{e}");
         assert!(!e.contains('\n'));
+    }
+
+    #[test]
+    fn gait_events_take_one_of_two_methods() {
+        let parse = |t: &str| Config::from_raw(&RawConfig::from_toml(t, "c").unwrap(), "c");
+        let zeni = parse("[support]\ngait_events = \"zeni\"\n").unwrap();
+        assert_eq!(zeni.support.gait_events, GaitEventMethod::Zeni);
+        assert_eq!(
+            parse("").unwrap().support.gait_events,
+            GaitEventMethod::ZeniBonci
+        );
+        let e = parse("[support]\ngait_events = \"velocity\"\n")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("gait_events") && e.contains("\"zeni\""), "{e}");
     }
 
     #[test]

@@ -5,7 +5,8 @@
 //! Checks, against the force plates (an instrument outside the project):
 //! - per-foot contact from [`detect_contact`] with the default thresholds starts and ends with
 //!   the loading of the plate under that foot;
-//! - Zeni heel strikes precede plate onsets, Zeni toe-offs match plate offs;
+//! - Zeni heel strikes precede plate onsets, Zeni toe-offs match plate offs, and the Bonci et
+//!   al. 2022 refinement brings both within 3 frames of the plates;
 //! - the plate's center of pressure (CoP) lies in the BoS hull of the foot on it.
 //!
 //! The recording is read in place (never copied into the repository) with a small local
@@ -16,8 +17,8 @@ use std::path::{Path, PathBuf};
 
 use approx::assert_relative_eq;
 use gravline::support::{
-    convex_hull, detect_contact, floor_level, signed_distance, transitions, zeni_events,
-    ContactThresholds,
+    convex_hull, detect_contact, floor_level, refine_events, signed_distance, transitions,
+    zeni_events, ContactThresholds, RefineOptions,
 };
 use gravline::trial::UpAxis;
 
@@ -314,6 +315,9 @@ fn contact_events_and_cop_agree_with_the_force_plates() {
         travel[0] / travel[0].hypot(travel[1]),
         travel[1] / travel[0].hypot(travel[1]),
     ];
+    // Walking speed: the sacrum's mean horizontal speed over the trial.
+    let walking_speed_m_s = travel[0].hypot(travel[1]) / (t1 - t0);
+    println!("walking speed {walking_speed_m_s:.3} m/s");
     for side in SIDES {
         let relative = |m: &str| -> Vec<Option<f64>> {
             track(side, m)
@@ -325,44 +329,75 @@ fn contact_events_and_cop_agree_with_the_force_plates() {
                 })
                 .collect()
         };
-        let events = zeni_events(&relative("heel"), &relative("mt2"), rate_hz);
-        let own: Vec<&Footfall> = footfalls.iter().filter(|f| f.side == side).collect();
-        assert_eq!(
-            events.heel_strikes.len(),
-            own.len(),
-            "foot {side}: heel strikes {events:?}"
+        let zeni = zeni_events(&relative("heel"), &relative("mt2"), rate_hz);
+        // Bonci et al. 2022 refinement: heel speed below 0.5 x and 2nd-metatarsal speed above
+        // 0.8 x the walking speed (methods.md 3).
+        let refined = refine_events(
+            &zeni,
+            &speeds_m_s(&track(side, "heel"), rate_hz),
+            &speeds_m_s(&track(side, "mt2"), rate_hz),
+            walking_speed_m_s,
+            &RefineOptions::default(),
         );
-        for (hs, f) in events.heel_strikes.iter().zip(&own) {
+        let own: Vec<&Footfall> = footfalls.iter().filter(|f| f.side == side).collect();
+        for (events, method) in [(&zeni, "Zeni"), (&refined, "Zeni + Bonci")] {
+            assert_eq!(
+                events.heel_strikes.len(),
+                own.len(),
+                "foot {side}: {method} heel strikes {events:?}"
+            );
+        }
+        for ((hs, refined_hs), f) in zeni
+            .heel_strikes
+            .iter()
+            .zip(&refined.heel_strikes)
+            .zip(&own)
+        {
             let d = *hs as i64 - f.on as i64;
+            let d_refined = *refined_hs as i64 - f.on as i64;
             println!(
-                "plate {} ({side}): Zeni heel strike {hs} vs plate on {} ({d:+} frames)",
+                "plate {} ({side}) on {}: heel strike Zeni {d:+}, Zeni + Bonci {d_refined:+} frames",
                 f.plate, f.on
             );
-            // The heel is farthest ahead of the pelvis in terminal swing, before it lands:
-            // measured 4-7 frames (27-47 ms) early here. Bound: 8 frames (53 ms), one-sided
+            // Pure Zeni: the heel is farthest ahead of the pelvis in terminal swing, before it
+            // lands: measured 4-7 frames (27-47 ms) early here. Bound: 8 frames (53 ms), one-sided
             // lateness of at most 3 frames.
             assert!(
                 (-8..=3).contains(&d),
-                "heel strike {d:+} frames from plate {} onset",
+                "Zeni heel strike {d:+} frames from plate {} onset",
+                f.plate
+            );
+            // Refined: within 3 marker frames (20 ms) of the plate onset, as the plates' own
+            // contact is checked above.
+            assert!(
+                d_refined.abs() <= 3,
+                "refined heel strike {d_refined:+} frames from plate {} onset",
                 f.plate
             );
         }
         for f in own.iter().filter(|f| f.off < n) {
-            let to = events
-                .toe_offs
-                .iter()
-                .min_by_key(|to| to.abs_diff(f.off))
-                .unwrap_or_else(|| panic!("no toe-off of foot {side}"));
-            let d = *to as i64 - f.off as i64;
+            let nearest = |events: &[usize]| {
+                let to = events
+                    .iter()
+                    .min_by_key(|to| to.abs_diff(f.off))
+                    .unwrap_or_else(|| panic!("no toe-off of foot {side}"));
+                *to as i64 - f.off as i64
+            };
+            let (d, d_refined) = (nearest(&zeni.toe_offs), nearest(&refined.toe_offs));
             println!(
-                "plate {} ({side}): Zeni toe-off {to} vs plate off {} ({d:+} frames)",
+                "plate {} ({side}) off {}: toe-off Zeni {d:+}, Zeni + Bonci {d_refined:+} frames",
                 f.plate, f.off
             );
             // Zeni 2008: 98 % of overground events within 2 frames at 60 Hz (33 ms, methods.md 3, P)
-            // = 5 frames at 150 Hz.
+            // = 5 frames at 150 Hz; the refined toe-off within 3 frames, like the contact offs.
             assert!(
                 d.abs() <= 5,
-                "toe-off {d:+} frames from plate {} off",
+                "Zeni toe-off {d:+} frames from plate {} off",
+                f.plate
+            );
+            assert!(
+                d_refined.abs() <= 3,
+                "refined toe-off {d_refined:+} frames from plate {} off",
                 f.plate
             );
         }

@@ -20,7 +20,9 @@ pub mod hull;
 pub mod margin;
 
 pub use contact::{detect_contact, floor_level, transitions, ContactThresholds};
-pub use events::{zeni_events, zeni_events_with, GaitEvents, ZeniOptions};
+pub use events::{
+    refine_events, zeni_events, zeni_events_with, GaitEvents, RefineOptions, ZeniOptions,
+};
 pub use hull::{convex_hull, Hull};
 pub use margin::{directional_margin, signed_distance, time_to_boundary_s, DirectionalMargin};
 pub mod lift;

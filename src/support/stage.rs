@@ -16,7 +16,9 @@
 //! - Progression: the mean horizontal CoM velocity; for near-static trials (mean speed below
 //!   [`STATIC_SPEED_M_S`]) the mean heel-to-toe direction of the feet.
 //! - Events: Zeni et al. 2008 (Gait Posture 27:710) with the sacrum at the PSIS midpoint (or the
-//!   sacral marker). Steps: one per heel strike, with step length and width between the two
+//!   sacral marker), refined by default by the speed thresholds of Bonci et al. 2022 (heel speed
+//!   below 0.5 × and toe speed above 0.8 × the mean horizontal CoM speed; [`refine_events`]);
+//!   `[support] gait_events = "zeni"` keeps the Zeni frames. Steps: one per heel strike, with step length and width between the two
 //!   heels at heel strike, AP MoS at heel strike (the leading heel, the front of the BoS as the
 //!   heel lands, minus the XCoM along progression; Hof et al. 2005), the minimum ML MoS in the
 //!   single stance that
@@ -26,12 +28,12 @@
 //! Units: metres, seconds, m/s.
 
 use super::{
-    convex_hull, detect_contact, directional_margin, floor_level, signed_distance, zeni_events,
-    ContactThresholds, GaitEvents,
+    convex_hull, detect_contact, directional_margin, floor_level, refine_events, signed_distance,
+    zeni_events, ContactThresholds, GaitEvents, RefineOptions,
 };
 use crate::body::model::PointId;
 use crate::body::BodyModel;
-use crate::config::SupportConfig;
+use crate::config::{GaitEventMethod, SupportConfig};
 use crate::signal::derivative;
 use crate::trial::UpAxis;
 use crate::warning::Warning;
@@ -245,7 +247,6 @@ pub fn analyse(
         ..Default::default()
     };
     let t = thresholds(config);
-    let dt = 1.0 / rate_hz;
     for side in 0..2 {
         let mut height = vec![None; n];
         let mut speed: Vec<Option<f64>> = vec![None; n];
@@ -261,10 +262,8 @@ pub fn analyse(
             }
             // Heel and metatarsal heads decide how slow the foot is (toe and malleolus do not).
             if matches!(*stem, "heel" | "mt1" | "mt2" | "mt5") {
-                let (v, _) = derivative::of_series(series, dt);
-                for (f, v) in v.iter().enumerate() {
-                    if let Some(v) = v {
-                        let s = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+                for (f, s) in speed_of(series, rate_hz).into_iter().enumerate() {
+                    if let Some(s) = s {
                         speed[f] = Some(speed[f].map_or(s, |m: f64| m.min(s)));
                     }
                 }
@@ -331,7 +330,13 @@ pub fn analyse(
     }
     if let Some(prog) = out.progression {
         if !static_trial && !foot.sacrum.is_empty() {
-            gait(&mut out, foot, com, xcom, up, times_s, rate_hz, prog);
+            let events = Events {
+                method: config.gait_events,
+                walking_speed_m_s: mean_speed(velocity, up),
+            };
+            gait(
+                &mut out, foot, com, xcom, up, times_s, rate_hz, prog, events,
+            );
         }
     }
     out
@@ -388,6 +393,22 @@ fn dot(a: [f64; 2], b: [f64; 2]) -> f64 {
     a[0] * b[0] + a[1] * b[1]
 }
 
+/// How [`gait`] finds events.
+#[derive(Clone, Copy, Debug)]
+struct Events {
+    method: GaitEventMethod,
+    /// Mean horizontal CoM speed, the walking speed of the Bonci et al. 2022 thresholds.
+    walking_speed_m_s: f64,
+}
+
+/// 3-D speed per frame of one foot point, m/s, `None` where unknown.
+fn speed_of(series: &[Option<[f64; 3]>], rate_hz: f64) -> Vec<Option<f64>> {
+    let (v, _) = derivative::of_series(series, 1.0 / rate_hz);
+    v.iter()
+        .map(|v| v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()))
+        .collect()
+}
+
 /// Gait events and steps (module doc).
 #[allow(clippy::too_many_arguments)]
 fn gait(
@@ -399,6 +420,7 @@ fn gait(
     times_s: &[f64],
     rate_hz: f64,
     prog: [f64; 2],
+    events: Events,
 ) {
     let n = com.len();
     let along = |side: usize, k: usize| -> Vec<Option<f64>> {
@@ -419,7 +441,17 @@ fn gait(
         if foot.points[side][HEEL].is_empty() || foot.points[side][toe].is_empty() {
             return;
         }
-        out.events[side] = zeni_events(&along(side, HEEL), &along(side, toe), rate_hz);
+        let zeni = zeni_events(&along(side, HEEL), &along(side, toe), rate_hz);
+        out.events[side] = match events.method {
+            GaitEventMethod::Zeni => zeni,
+            GaitEventMethod::ZeniBonci => refine_events(
+                &zeni,
+                &speed_of(&foot.points[side][HEEL], rate_hz),
+                &speed_of(&foot.points[side][toe], rate_hz),
+                events.walking_speed_m_s,
+                &RefineOptions::default(),
+            ),
+        };
     }
     let ml = [-prog[1], prog[0]];
     let xcom_h = |f: usize| xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
