@@ -6,35 +6,19 @@
 use gravline::config::{Config, RawConfig, Subject};
 use gravline::pipeline::{process_file, OutputOptions, Setup};
 use gravline::report::plots::{PlotFormat, FIGURE_SIZE_PX};
-use std::path::PathBuf;
 
-fn realdata_dir() -> Option<PathBuf> {
-    let dir = PathBuf::from("/work/shared/realdata");
-    if dir.exists() {
-        Some(dir)
-    } else {
-        eprintln!("note: /work/shared/realdata not present; real-data figure check skipped");
-        None
-    }
-}
-
-/// No arms and no toe tips in the marker set: arms hang, toe tips are virtual landmarks.
-const CONFIG: &str = r#"
-[input]
-units = "m"
-up_axis = "y"
-[model]
-arms = "hanging"
-[virtual]
-l_toe = { along = ["l_heel", "l_mt2"], fraction = 1.3 }
-r_toe = { along = ["r_heel", "r_mt2"], fraction = 1.3 }
-"#;
+mod common;
+use common::{realdata_dir, STANDING_CONFIG};
 
 #[test]
 fn real_standing_figures_name_the_lab_axes_and_magnify_the_sway() {
     let Some(dir) = realdata_dir() else { return };
     let dir = dir.join("standing-static");
-    let config = Config::from_raw(&RawConfig::from_toml(CONFIG, "test").unwrap(), "test").unwrap();
+    let config = Config::from_raw(
+        &RawConfig::from_toml(STANDING_CONFIG, "test").unwrap(),
+        "test",
+    )
+    .unwrap();
     let subject = Subject::from_path(&dir.join("subject.toml")).unwrap();
     let setup = Setup::new(config, subject).unwrap();
     let out = tempfile::tempdir().unwrap();

@@ -5,26 +5,17 @@ use gravline::config::{Config, RawConfig, Subject};
 use gravline::pipeline::{process_file, OutputOptions, Setup};
 
 mod common;
-use common::realdata_dir;
-
-/// The marker set has no arms and no toe-tip markers: arms hang (DESIGN.md 5) and the toe tips
-/// are virtual landmarks along heel -> 2nd metatarsal head.
-const CONFIG: &str = r#"
-[input]
-units = "m"
-up_axis = "y"
-[model]
-arms = "hanging"
-[virtual]
-l_toe = { along = ["l_heel", "l_mt2"], fraction = 1.3 }
-r_toe = { along = ["r_heel", "r_mt2"], fraction = 1.3 }
-"#;
+use common::{realdata_dir, STANDING_CONFIG};
 
 #[test]
 fn standing_com_height_and_projection_are_those_of_a_person() {
     let Some(dir) = realdata_dir() else { return };
     let dir = dir.join("standing-static");
-    let config = Config::from_raw(&RawConfig::from_toml(CONFIG, "test").unwrap(), "test").unwrap();
+    let config = Config::from_raw(
+        &RawConfig::from_toml(STANDING_CONFIG, "test").unwrap(),
+        "test",
+    )
+    .unwrap();
     let subject = Subject::from_path(&dir.join("subject.toml")).unwrap();
     let setup = Setup::new(config, subject).unwrap();
     let out = tempfile::tempdir().unwrap();

@@ -13,7 +13,10 @@
 //! parser, and the test returns early with a note when the directory is absent.
 
 use std::collections::HashMap;
-use std::path::{Path, PathBuf};
+use std::path::Path;
+
+mod common;
+use common::realdata_dir;
 
 use approx::assert_relative_eq;
 use gravline::support::{
@@ -21,16 +24,6 @@ use gravline::support::{
     zeni_events, ContactThresholds, RefineOptions,
 };
 use gravline::trial::UpAxis;
-
-fn realdata_dir() -> Option<PathBuf> {
-    let dir = PathBuf::from("/work/shared/realdata");
-    if dir.is_dir() {
-        Some(dir)
-    } else {
-        println!("note: {} is absent, real-data test skipped", dir.display());
-        None
-    }
-}
 
 /// A CSV table with `#` comment lines: column names and rows, empty cells as `None`.
 struct Table {

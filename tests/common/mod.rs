@@ -21,6 +21,20 @@ pub fn realdata_dir() -> Option<PathBuf> {
 }
 
 /// A static trial: every marker at a fixed position for `frames` frames at 100 Hz.
+/// The configuration of the real standing recording (realdata/standing-static): its marker set
+/// has no arms and no toe-tip markers, so arms hang (DESIGN.md 5) and the toe tips are virtual
+/// landmarks along heel -> 2nd metatarsal head.
+pub const STANDING_CONFIG: &str = r#"
+[input]
+units = "m"
+up_axis = "y"
+[model]
+arms = "hanging"
+[virtual]
+l_toe = { along = ["l_heel", "l_mt2"], fraction = 1.3 }
+r_toe = { along = ["r_heel", "r_mt2"], fraction = 1.3 }
+"#;
+
 pub fn static_trial(points: &[(&str, [f64; 3])], frames: usize) -> Trial {
     Trial {
         name: "static".into(),
