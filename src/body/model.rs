@@ -417,30 +417,37 @@ impl BodyModel {
     }
 
     /// Measures the leg length (ASIS to medial malleolus, or to the lateral malleolus when no
-    /// medial marker exists; mean of both sides over every frame where they are seen) and keeps
-    /// it when none was given. Returns the length in use.
+    /// medial marker exists) and keeps it when none was given. Returns the length in use.
+    ///
+    /// Per side, the [`LEG_LENGTH_PERCENTILE`]th percentile of the distance over the frames where
+    /// both markers are seen, then the mean of the sides: the length of the extended leg, as
+    /// it is measured standing, whatever the knees do in the trial (a squat's mean would be
+    /// centimetres short), robust to a few bad frames.
     pub fn measure_leg_length(&mut self, markers: &Markers) -> Option<f64> {
         if self.leg_length_m.is_some() {
             return self.leg_length_m;
         }
-        let (mut sum, mut n) = (0.0, 0usize);
-        for &(asis, ankle) in &self.leg_markers {
-            let (Some(a), Some(b)) = (markers.tracks.get(asis), markers.tracks.get(ankle)) else {
-                continue;
-            };
-            for frame in 0..markers.n_frames {
-                if let (Some(a), Some(b)) = (a.at(frame), b.at(frame)) {
-                    sum += (P::from(a) - P::from(b)).norm();
-                    n += 1;
-                }
-            }
-        }
-        if n > 0 {
-            self.leg_length_m = Some(sum / n as f64);
+        let sides: Vec<f64> = self
+            .leg_markers
+            .iter()
+            .filter_map(|&(asis, ankle)| {
+                let (a, b) = (markers.tracks.get(asis)?, markers.tracks.get(ankle)?);
+                let distances = (0..markers.n_frames).filter_map(|frame| {
+                    Some((P::from(a.at(frame)?) - P::from(b.at(frame)?)).norm())
+                });
+                crate::support::percentile(distances, LEG_LENGTH_PERCENTILE)
+            })
+            .collect();
+        if !sides.is_empty() {
+            self.leg_length_m = Some(sides.iter().sum::<f64>() / sides.len() as f64);
         }
         self.leg_length_m
     }
 }
+
+/// Percentile of the per-frame ASIS-malleolus distance taken as the leg length: the extended
+/// leg with a margin for marker noise (common practice, no source).
+pub const LEG_LENGTH_PERCENTILE: f64 = 95.0;
 
 /// A point at `offset_m` in the frame (origin `o`, x toward `a`, z normal to (o, a, b)).
 fn offset_in_frame(o: P, a: P, b: P, offset_m: [f64; 3]) -> Option<P> {

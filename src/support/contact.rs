@@ -142,23 +142,28 @@ pub fn transitions(contact: &[bool]) -> Vec<(usize, usize)> {
     runs
 }
 
-/// Floor level in metres: the `percentile` (0-100) of the foot-marker heights, by linear
-/// interpolation between order statistics (Hyndman & Fan 1996 definition 7, numpy's default):
-/// with the n finite heights sorted as x_0 <= ... <= x_(n-1) and r = percentile/100·(n − 1),
-/// the level is x_⌊r⌋ + (r − ⌊r⌋)·(x_⌊r⌋+1 − x_⌊r⌋).
-///
-/// Non-finite heights are skipped. `None` when no finite height is left or `percentile` is not
-/// within 0-100. DESIGN.md 7 uses `percentile = 2.0`.
+/// Floor level in metres: the `percentile` (0-100) of the foot-marker heights ([`percentile`]).
+/// DESIGN.md 7 uses `percentile = 2.0`.
 ///
 /// ```
 /// use gravline::support::floor_level;
 /// assert_eq!(floor_level([4.0, 1.0, 3.0, 2.0].into_iter(), 50.0), Some(2.5));
 /// ```
-pub fn floor_level(heights_m: impl Iterator<Item = f64>, percentile: f64) -> Option<f64> {
+pub fn floor_level(heights_m: impl Iterator<Item = f64>, percentile_0_100: f64) -> Option<f64> {
+    percentile(heights_m, percentile_0_100)
+}
+
+/// The `percentile` (0-100) of `values`, by linear interpolation between order statistics
+/// (Hyndman & Fan 1996 definition 7, numpy's default): with the n finite values sorted as
+/// x_0 <= ... <= x_(n-1) and r = percentile/100·(n − 1), it is x_⌊r⌋ + (r − ⌊r⌋)·(x_⌊r⌋+1 − x_⌊r⌋).
+///
+/// Non-finite values are skipped. `None` when no finite value is left or `percentile` is not
+/// within 0-100.
+pub fn percentile(values: impl Iterator<Item = f64>, percentile: f64) -> Option<f64> {
     if !(0.0..=100.0).contains(&percentile) {
         return None;
     }
-    let mut x: Vec<f64> = heights_m.filter(|h| h.is_finite()).collect();
+    let mut x: Vec<f64> = values.filter(|h| h.is_finite()).collect();
     if x.is_empty() {
         return None;
     }

@@ -19,7 +19,7 @@ pub mod events;
 pub mod hull;
 pub mod margin;
 
-pub use contact::{detect_contact, floor_level, transitions, ContactThresholds};
+pub use contact::{detect_contact, floor_level, percentile, transitions, ContactThresholds};
 pub use events::{
     refine_events, zeni_events, zeni_events_with, GaitEvents, RefineOptions, ZeniOptions,
 };
