@@ -19,6 +19,7 @@ mod common;
 use common::realdata_dir;
 
 use approx::assert_relative_eq;
+use gravline::signal::{design, filtfilt};
 use gravline::support::{
     convex_hull, detect_contact, floor_level, refine_events, signed_distance, transitions,
     zeni_events, ContactThresholds, RefineOptions,
@@ -100,6 +101,24 @@ fn speeds_m_s(track: &[Option<[f64; 3]>], rate_hz: f64) -> Vec<Option<f64>> {
             let d = [pb[0] - pa[0], pb[1] - pa[1], pb[2] - pa[2]];
             Some((d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt() / dt)
         })
+        .collect()
+}
+
+/// A complete track low-passed at 6 Hz by gravline's Winter-corrected dual-pass Butterworth
+/// (itself checked against scipy in `tests/signal_filter_scipy.rs`).
+fn low_pass_6_hz(track: &[Option<[f64; 3]>], rate_hz: f64) -> Vec<Option<[f64; 3]>> {
+    let c = design(rate_hz, 6.0, true).expect("filter");
+    let axes: Vec<Vec<f64>> = (0..3)
+        .map(|k| {
+            let x: Vec<f64> = track
+                .iter()
+                .map(|p| p.expect("complete track")[k])
+                .collect();
+            filtfilt(&c, &x)
+        })
+        .collect();
+    (0..track.len())
+        .map(|i| Some([axes[0][i], axes[1][i], axes[2][i]]))
         .collect()
 }
 
@@ -332,25 +351,39 @@ fn contact_events_and_cop_agree_with_the_force_plates() {
             walking_speed_m_s,
             &RefineOptions::default(),
         );
+        // The same on tracks low-passed as the pipeline does (6 Hz, Winter-corrected dual pass).
+        let filtered = refine_events(
+            &zeni,
+            &speeds_m_s(&low_pass_6_hz(&track(side, "heel"), rate_hz), rate_hz),
+            &speeds_m_s(&low_pass_6_hz(&track(side, "mt2"), rate_hz), rate_hz),
+            walking_speed_m_s,
+            &RefineOptions::default(),
+        );
         let own: Vec<&Footfall> = footfalls.iter().filter(|f| f.side == side).collect();
-        for (events, method) in [(&zeni, "Zeni"), (&refined, "Zeni + Bonci")] {
+        for (events, method) in [
+            (&zeni, "Zeni"),
+            (&refined, "Zeni + Bonci"),
+            (&filtered, "Zeni + Bonci, filtered"),
+        ] {
             assert_eq!(
                 events.heel_strikes.len(),
                 own.len(),
                 "foot {side}: {method} heel strikes {events:?}"
             );
         }
-        for ((hs, refined_hs), f) in zeni
-            .heel_strikes
-            .iter()
-            .zip(&refined.heel_strikes)
-            .zip(&own)
-        {
-            let d = *hs as i64 - f.on as i64;
-            let d_refined = *refined_hs as i64 - f.on as i64;
+        for (k, f) in own.iter().enumerate() {
+            let d = zeni.heel_strikes[k] as i64 - f.on as i64;
+            let d_refined = refined.heel_strikes[k] as i64 - f.on as i64;
+            let d_filtered = filtered.heel_strikes[k] as i64 - f.on as i64;
             println!(
-                "plate {} ({side}) on {}: heel strike Zeni {d:+}, Zeni + Bonci {d_refined:+} frames",
+                "plate {} ({side}) on {}: heel strike Zeni {d:+}, Zeni + Bonci {d_refined:+}, \
+                 filtered {d_filtered:+} frames",
                 f.plate, f.on
+            );
+            assert!(
+                d_filtered.abs() <= 3,
+                "refined heel strike on filtered tracks {d_filtered:+} frames from plate {}",
+                f.plate
             );
             // Pure Zeni: the heel is farthest ahead of the pelvis in terminal swing, before it
             // lands: measured 4-7 frames (27-47 ms) early here. Bound: 8 frames (53 ms), one-sided
@@ -377,9 +410,16 @@ fn contact_events_and_cop_agree_with_the_force_plates() {
                 *to as i64 - f.off as i64
             };
             let (d, d_refined) = (nearest(&zeni.toe_offs), nearest(&refined.toe_offs));
+            let d_filtered = nearest(&filtered.toe_offs);
             println!(
-                "plate {} ({side}) off {}: toe-off Zeni {d:+}, Zeni + Bonci {d_refined:+} frames",
+                "plate {} ({side}) off {}: toe-off Zeni {d:+}, Zeni + Bonci {d_refined:+}, \
+                 filtered {d_filtered:+} frames",
                 f.plate, f.off
+            );
+            assert!(
+                d_filtered.abs() <= 3,
+                "refined toe-off on filtered tracks {d_filtered:+} frames from plate {} off",
+                f.plate
             );
             // Zeni 2008: 98 % of overground events within 2 frames at 60 Hz (33 ms, methods.md 3, P)
             // = 5 frames at 150 Hz; the refined toe-off within 3 frames, like the contact offs.

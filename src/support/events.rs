@@ -37,7 +37,8 @@
 //! the real walk of the tests (150 Hz, force plates) pure Zeni heel strikes come 4-7 frames
 //! (27-47 ms) before plate contact, since the heel is farthest ahead of the pelvis in terminal
 //! swing, just before it lands, and toe-offs 1-4 frames after the plates unload; refined, the heel
-//! strikes come 1-3 frames early and the toe-offs 0-2 frames late (`tests/support_realdata.rs`).
+//! strikes come 0-3 frames early and the toe-offs within 2 frames of the plates, on raw and on
+//! 6 Hz-filtered tracks (`tests/support_realdata.rs`).
 
 /// Heel strikes and toe-offs of one foot, as frame indices in increasing order.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
