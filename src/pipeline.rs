@@ -119,28 +119,51 @@ pub fn run_trial(
         table,
         options,
         trial_threads(),
+        true,
     )
 }
 
-/// [`run_trial`] on a trial it may take apart: the raw marker tracks are freed while they are
-/// filled (the same result, less memory).
-fn run_read_trial(
-    mut trial: Trial,
+/// [`run_trial`] on a trial read in the flat layout: each raw track is filled in place and
+/// low-passed on the same thread while it is in cache (the same result, less memory and
+/// time).
+fn run_flat_trial(
+    flat: crate::trial::FlatTrial,
     config: &Config,
     subject: &Subject,
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
 ) -> Result<TrialResult, PipelineError> {
+    let crate::trial::FlatTrial { trial, tracks } = flat;
     let models = Models::resolve(&trial, config, subject, table)?;
-    let raw = crate::trial::RawMarkers {
-        labels: trial.markers.labels.clone(),
-        tracks: std::mem::take(&mut trial.markers.tracks),
-    };
-    let (markers, gaps) = signal::fill_gaps_owned(raw, &trial.times_s, config.max_gap_s, threads);
+    let filter = low_pass_design(&trial, config)?;
+    let (markers, gaps) = signal::gapfill::fill_flat(
+        trial.markers.labels.clone(),
+        tracks,
+        &trial.times_s,
+        config.max_gap_s,
+        filter.as_ref().map(|(c, pad)| (c, *pad)),
+        threads,
+    );
     run_filled(
-        &trial, models, markers, gaps, config, table, options, threads,
+        &trial, models, markers, gaps, config, table, options, threads, false,
     )
+}
+
+/// The low-pass section and its end pad, when the configuration asks for one.
+fn low_pass_design(
+    trial: &Trial,
+    config: &Config,
+) -> Result<Option<(signal::Coefficients, usize)>, PipelineError> {
+    let Some(cutoff_hz) = config.cutoff_hz else {
+        return Ok(None);
+    };
+    let c =
+        signal::design(trial.rate_hz, cutoff_hz, true).map_err(|source| PipelineError::Signal {
+            file: trial.file.clone(),
+            source,
+        })?;
+    Ok(Some((c, c.pad_len())))
 }
 
 /// The body and CoM models of a trial: everything that can be missing, found out before any
@@ -232,6 +255,7 @@ fn run_filled(
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
+    low_pass: bool,
 ) -> Result<TrialResult, PipelineError> {
     let labels = &trial.markers.labels;
     let Models {
@@ -245,13 +269,10 @@ fn run_filled(
         &trial.times_s,
         trial.rate_hz,
     ));
-    if let Some(cutoff_hz) = config.cutoff_hz {
-        signal::low_pass_on(&mut markers, trial.rate_hz, cutoff_hz, threads).map_err(|source| {
-            PipelineError::Signal {
-                file: trial.file.clone(),
-                source,
-            }
-        })?;
+    if low_pass {
+        if let Some((c, pad)) = low_pass_design(trial, config)? {
+            signal::butterworth::low_pass_with(&mut markers, &c, pad, threads);
+        }
     }
 
     let n = trial.n_frames();
@@ -350,7 +371,7 @@ fn run_filled(
             Some(up.point(xi, floor_m))
         })
         .collect();
-    let support = support::analyse(
+    let support = support::stage::analyse_on(
         &foot,
         &system,
         &velocity,
@@ -360,6 +381,7 @@ fn run_filled(
         &trial.times_s,
         trial.rate_hz,
         &config.support,
+        threads,
     );
     warnings.extend(support.warnings.iter().cloned());
     let lift = loads.first().map(|bar| {
@@ -515,7 +537,7 @@ pub fn process_file(
     // The digest is taken on its own thread while the numbers are parsed.
     let (input_sha256, trial) = std::thread::scope(|s| {
         let digest = (threads > 1).then(|| s.spawn(|| crate::report::sha256_hex(&bytes)));
-        let trial = crate::trial::read_trial_bytes(
+        let trial = crate::trial::read_flat(
             &bytes,
             &path.display().to_string(),
             &stem,
@@ -530,7 +552,7 @@ pub fn process_file(
     });
     let trial = trial?;
     drop(bytes);
-    let result = run_read_trial(
+    let result = run_flat_trial(
         trial,
         &setup.config,
         &setup.subject,

@@ -693,10 +693,57 @@ pub fn read_trial_bytes(
     opts: &ReadOptions,
     threads: usize,
 ) -> Result<Trial, TrialError> {
+    read_flat(bytes, name_for_errors, stem, opts, threads).map(FlatTrial::into_trial)
+}
+
+/// A trial whose marker samples are held flat: `tracks[marker][frame]` in metres, with NaN
+/// coordinates where the marker was not seen (a point is missing when any coordinate is NaN).
+/// The in-memory reader's layout, which gap filling takes over in place; `trial.markers`
+/// holds the labels and no tracks.
+#[derive(Clone, Debug, PartialEq)]
+pub(crate) struct FlatTrial {
+    pub trial: Trial,
+    pub tracks: Vec<Vec<[f64; 3]>>,
+}
+
+impl FlatTrial {
+    /// The trial with its tracks as [`RawMarkers`] (`None` where a coordinate is NaN).
+    pub fn into_trial(self) -> Trial {
+        let FlatTrial { mut trial, tracks } = self;
+        trial.markers.tracks = tracks
+            .into_iter()
+            .map(|t| {
+                t.into_iter()
+                    .map(|p| (!p.iter().any(|v| v.is_nan())).then_some(p))
+                    .collect()
+            })
+            .collect();
+        trial
+    }
+
+    /// The flat layout of a trial read by the general reader.
+    fn from_trial(mut trial: Trial) -> FlatTrial {
+        let tracks = std::mem::take(&mut trial.markers.tracks)
+            .into_iter()
+            .map(|t| t.into_iter().map(|p| p.unwrap_or([f64::NAN; 3])).collect())
+            .collect();
+        FlatTrial { trial, tracks }
+    }
+}
+
+/// [`read_trial_bytes`] in the flat layout of [`FlatTrial`].
+pub(crate) fn read_flat(
+    bytes: &[u8],
+    name_for_errors: &str,
+    stem: &str,
+    opts: &ReadOptions,
+    threads: usize,
+) -> Result<FlatTrial, TrialError> {
     if let Some(read) = fast::read_wide(bytes, name_for_errors, stem, opts, threads) {
         return read;
     }
     read_impl(bytes, name_for_errors, stem, opts, Some(bytes.len() as u64))
+        .map(FlatTrial::from_trial)
 }
 
 /// The marker labels of a trial file, in file order, without reading its numbers (for the

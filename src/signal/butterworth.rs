@@ -275,17 +275,21 @@ pub fn low_pass_on(
     threads: usize,
 ) -> Result<(), SignalError> {
     let c = design(rate_hz, cutoff_hz, true)?;
-    let pad = c.pad_len();
+    low_pass_with(markers, &c, c.pad_len(), threads);
+    Ok(())
+}
+
+/// [`low_pass_on`] with a designed section and end pad.
+pub(crate) fn low_pass_with(markers: &mut Markers, c: &Coefficients, pad: usize, threads: usize) {
     let tracks: Vec<&mut super::Track> = markers.tracks.iter_mut().collect();
     super::in_groups(tracks, threads, |group| {
         let mut ext = Vec::new();
         for track in group {
             for run in track.runs_mut() {
-                filtfilt_xyz_with_pad(&c, &mut run.xyz, pad, &mut ext);
+                filtfilt_xyz_with_pad(c, &mut run.xyz, pad, &mut ext);
             }
         }
     });
-    Ok(())
 }
 
 #[cfg(test)]
