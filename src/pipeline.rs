@@ -526,7 +526,7 @@ pub fn process_file(
     dir: &std::path::Path,
     options: &OutputOptions,
 ) -> Result<crate::report::Summary, Error> {
-    let bytes = std::fs::read(path).map_err(|source| Error::Read {
+    let bytes = crate::trial::TrialBytes::open(path).map_err(|source| Error::Read {
         path: path.display().to_string(),
         source,
     })?;
