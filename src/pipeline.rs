@@ -14,6 +14,16 @@ use crate::signal::{self, SignalError};
 use crate::support::{self, SupportSeries};
 use crate::trial::{Trial, UpAxis};
 use crate::warning::Warning;
+thread_local! { pub static T0: std::cell::Cell<Option<std::time::Instant>> = const { std::cell::Cell::new(None) }; }
+pub fn tick(what: &str) {
+    T0.with(|t| {
+        let now = std::time::Instant::now();
+        if let Some(p) = t.get() {
+            eprintln!("{:>10.1} ms {}", (now - p).as_secs_f64() * 1e3, what);
+        }
+        t.set(Some(now));
+    });
+}
 
 /// Anything that stops a trial.
 #[derive(Debug, thiserror::Error)]
@@ -327,7 +337,6 @@ fn run_filled(
             );
         }
     });
-    drop(markers);
     let Models {
         body,
         com: com_model,
@@ -346,7 +355,15 @@ fn run_filled(
     let segments = take(n_segments);
 
     let dt = 1.0 / trial.rate_hz;
-    let (velocity, acceleration) = signal::derivative::of_series(&system, dt);
+    // The derivatives on this thread; the markers freed and the floor found on another.
+    let (floor, (velocity, acceleration)) = signal::both(
+        threads,
+        || {
+            drop(markers);
+            support::floor_m(&foot, trial.up_axis, &config.support)
+        },
+        || signal::derivative::of_series(&system, dt),
+    );
 
     let xcom_length_m = match config.xcom_length {
         XcomLength::Metres(m) => Some(m),
@@ -359,7 +376,7 @@ fn run_filled(
         });
     }
     let omega0 = xcom_length_m.map(com::omega0);
-    let (floor_m, floor_warning) = support::floor_m(&foot, trial.up_axis, &config.support);
+    let (floor_m, floor_warning) = floor;
     warnings.extend(floor_warning);
     let up = trial.up_axis;
     let xcom: Vec<Option<[f64; 3]>> = system

@@ -104,39 +104,62 @@ pub fn write_frames(r: &TrialResult, w: impl Write) -> io::Result<()> {
 /// Rows per chunk of `frames.csv` (about 0.5 MB for a walk).
 const CHUNK_ROWS: usize = 2048;
 
-/// [`write_frames`] with up to `threads` chunks formatted at once, each on a thread of its own,
-/// then written in order: the same bytes for any number of threads.
+/// [`write_frames`] with the chunks formatted on up to `threads` threads of their own (chunk
+/// `i` on thread `i % threads`, two buffers each) while this thread writes them in order: the
+/// same bytes for any number of threads.
 pub fn write_frames_on(r: &TrialResult, mut w: impl Write, threads: usize) -> io::Result<()> {
+    use std::sync::mpsc;
+
     writeln!(w, "{}", frames_header(r).join(","))?;
     let n = r.times_s.len();
-    let threads = threads.clamp(1, n.div_ceil(CHUNK_ROWS).max(1));
-    let mut bufs: Vec<Vec<u8>> = (0..threads).map(|_| Vec::new()).collect();
-    let mut start = 0;
-    while start < n {
-        let jobs: Vec<(usize, Vec<u8>)> = bufs
-            .drain(..)
-            .enumerate()
-            .map(|(k, buf)| (start + k * CHUNK_ROWS, buf))
-            .collect();
-        let done = crate::signal::in_groups(jobs, threads, |group| {
-            group
-                .into_iter()
-                .map(|(from, mut buf)| {
-                    buf.clear();
-                    for f in from..(from + CHUNK_ROWS).min(n) {
-                        push_row(r, f, &mut buf);
-                    }
-                    buf
-                })
-                .collect::<Vec<_>>()
-        });
-        for buf in done.into_iter().flatten() {
-            w.write_all(&buf)?;
-            bufs.push(buf);
+    let n_chunks = n.div_ceil(CHUNK_ROWS);
+    let format = |chunk: usize, buf: &mut Vec<u8>| {
+        buf.clear();
+        for f in chunk * CHUNK_ROWS..((chunk + 1) * CHUNK_ROWS).min(n) {
+            push_row(r, f, buf);
         }
-        start += threads * CHUNK_ROWS;
+    };
+    let workers = threads.min(n_chunks);
+    if workers <= 1 {
+        let mut buf = Vec::new();
+        for chunk in 0..n_chunks {
+            format(chunk, &mut buf);
+            w.write_all(&buf)?;
+        }
+        return Ok(());
     }
-    Ok(())
+    std::thread::scope(|s| {
+        let mut links = Vec::with_capacity(workers);
+        for k in 0..workers {
+            let (full_tx, full_rx) = mpsc::sync_channel::<Vec<u8>>(1);
+            let (empty_tx, empty_rx) = mpsc::channel::<Vec<u8>>();
+            for _ in 0..2 {
+                // The receiver is alive: this cannot fail.
+                let _ = empty_tx.send(Vec::new());
+            }
+            s.spawn(move || {
+                for chunk in (k..n_chunks).step_by(workers) {
+                    // Either channel closes when the writer stops early (a write error).
+                    let Ok(mut buf) = empty_rx.recv() else { return };
+                    format(chunk, &mut buf);
+                    if full_tx.send(buf).is_err() {
+                        return;
+                    }
+                }
+            });
+            links.push((full_rx, empty_tx));
+        }
+        for chunk in 0..n_chunks {
+            let (full_rx, empty_tx) = &links[chunk % workers];
+            // A closed channel means a formatting thread panicked; the scope passes that on.
+            let buf = full_rx
+                .recv()
+                .map_err(|_| io::Error::other("frames.csv rows were not formatted"))?;
+            w.write_all(&buf)?;
+            let _ = empty_tx.send(buf);
+        }
+        Ok(())
+    })
 }
 
 /// Appends row `f` of `frames.csv`, line end included.

@@ -81,48 +81,61 @@ pub fn second(x: &[f64], dt_s: f64) -> Vec<f64> {
 
 /// A 3D position series as velocity and acceleration series: each run of consecutive `Some`
 /// samples is differentiated on its own, never across a gap. A run of 1 frame gives `None` for
-/// both; a run of 2 frames gives a velocity (forward difference) and no acceleration.
+/// both; a run of 2 frames gives a velocity (forward difference) and no acceleration. The
+/// values are those of [`first`] and [`second`] on each coordinate of each run, computed in
+/// place.
 pub fn of_series(series: &[Option<[f64; 3]>], dt_s: f64) -> (PointSeries, PointSeries) {
+    let mut vel = Vec::new();
+    velocity_into(series, dt_s, &mut vel);
     let n = series.len();
-    let mut vel = vec![None; n];
     let mut acc = vec![None; n];
-    let mut start = 0;
-    while start < n {
-        if series[start].is_none() {
-            start += 1;
+    let dt2 = dt_s * dt_s;
+    for (start, len) in runs(series) {
+        if len < 3 {
             continue;
         }
-        let len = series[start..].iter().take_while(|s| s.is_some()).count();
-        let run: Vec<[f64; 3]> = series[start..start + len]
-            .iter()
-            .flatten()
-            .copied()
-            .collect();
-        if len >= 2 {
-            write_derivative(&mut vel[start..start + len], &run, |c| first(c, dt_s));
+        let run = &series[start..start + len];
+        let x = |i: usize, d: usize| run[i].map_or(f64::NAN, |p| p[d]);
+        let at = |f: usize| -> [f64; 3] {
+            [0, 1, 2].map(|d| match (len, f) {
+                (3, _) => (x(0, d) - 2.0 * x(1, d) + x(2, d)) / dt2,
+                (_, 0) => (2.0 * x(0, d) - 5.0 * x(1, d) + 4.0 * x(2, d) - x(3, d)) / dt2,
+                (_, f) if f == len - 1 => {
+                    (2.0 * x(f, d) - 5.0 * x(f - 1, d) + 4.0 * x(f - 2, d) - x(f - 3, d)) / dt2
+                }
+                (_, f) => (x(f + 1, d) - 2.0 * x(f, d) + x(f - 1, d)) / dt2,
+            })
+        };
+        for (f, slot) in acc[start..start + len].iter_mut().enumerate() {
+            *slot = Some(at(f));
         }
-        if len >= 3 {
-            write_derivative(&mut acc[start..start + len], &run, |c| second(c, dt_s));
-        }
-        start += len;
     }
     (vel, acc)
 }
 
-/// The velocity series of [`of_series`] into `out` (resized to the series), without the
-/// acceleration and without allocating beyond `out`: the same formulas in the same order, so
-/// the same values.
-pub fn velocity_into(series: &[Option<[f64; 3]>], dt_s: f64, out: &mut PointSeries) {
-    let n = series.len();
-    out.clear();
-    out.resize(n, None);
+/// The runs of consecutive `Some` samples, as (first frame, length).
+fn runs(series: &[Option<[f64; 3]>]) -> impl Iterator<Item = (usize, usize)> + '_ {
     let mut start = 0;
-    while start < n {
-        if series[start].is_none() {
+    std::iter::from_fn(move || {
+        while series.get(start)?.is_none() {
             start += 1;
-            continue;
         }
         let len = series[start..].iter().take_while(|s| s.is_some()).count();
+        let run = (start, len);
+        start += len;
+        Some(run)
+    })
+}
+
+/// The velocity series of [`of_series`] into `out` (resized to the series), without the
+/// acceleration and without allocating beyond `out`.
+pub fn velocity_into(series: &[Option<[f64; 3]>], dt_s: f64, out: &mut PointSeries) {
+    out.clear();
+    out.resize(series.len(), None);
+    for (start, len) in runs(series) {
+        if len < 2 {
+            continue;
+        }
         let run = &series[start..start + len];
         let x = |i: usize, d: usize| run[i].map_or(f64::NAN, |p| p[d]);
         let at = |f: usize| -> [f64; 3] {
@@ -135,30 +148,9 @@ pub fn velocity_into(series: &[Option<[f64; 3]>], dt_s: f64, out: &mut PointSeri
                 (_, f) => (x(f + 1, d) - x(f - 1, d)) / (2.0 * dt_s),
             })
         };
-        if len >= 2 {
-            for (f, slot) in out[start..start + len].iter_mut().enumerate() {
-                *slot = Some(at(f));
-            }
+        for (f, slot) in out[start..start + len].iter_mut().enumerate() {
+            *slot = Some(at(f));
         }
-        start += len;
-    }
-}
-
-/// Differentiates each coordinate of `run` with `diff` into `out` (same length).
-fn write_derivative(
-    out: &mut [Option<[f64; 3]>],
-    run: &[[f64; 3]],
-    diff: impl Fn(&[f64]) -> Vec<f64>,
-) {
-    let mut xyz = vec![[0.0; 3]; run.len()];
-    for d in 0..3 {
-        let coord: Vec<f64> = run.iter().map(|p| p[d]).collect();
-        for (slot, v) in xyz.iter_mut().zip(diff(&coord)) {
-            slot[d] = v;
-        }
-    }
-    for (slot, p) in out.iter_mut().zip(xyz) {
-        *slot = Some(p);
     }
 }
 
@@ -169,7 +161,7 @@ mod tests {
     use std::f64::consts::PI;
 
     #[test]
-    fn velocity_into_gives_the_velocity_of_of_series() {
+    fn series_derivatives_are_first_and_second_on_each_run() {
         // Runs of 1, 2, 3 and 40 frames of a curved path (synthetic).
         let p = |f: usize| {
             let t = f as f64 * 0.01;
@@ -179,14 +171,42 @@ mod tests {
         for gap in [1, 3, 6, 10, 11, 12, 16, 17, 58] {
             series[gap] = None;
         }
+        // The reference: `first` and `second` on each coordinate of each run.
+        let (mut want_v, mut want_a) = (vec![None; 60], vec![None; 60]);
+        let mut f = 0;
+        while f < 60 {
+            let len = series[f..].iter().take_while(|p| p.is_some()).count();
+            if len == 0 {
+                f += 1;
+                continue;
+            }
+            let coord = |d: usize| -> Vec<f64> {
+                series[f..f + len].iter().flatten().map(|p| p[d]).collect()
+            };
+            let (v, a): (Vec<Vec<f64>>, Vec<Vec<f64>>) = (0..3)
+                .map(|d| (first(&coord(d), 0.01), second(&coord(d), 0.01)))
+                .unzip();
+            for k in 0..len {
+                if len >= 2 {
+                    want_v[f + k] = Some([v[0][k], v[1][k], v[2][k]]);
+                }
+                if len >= 3 {
+                    want_a[f + k] = Some([a[0][k], a[1][k], a[2][k]]);
+                }
+            }
+            f += len;
+        }
         let mut v = vec![Some([9.0; 3])];
         velocity_into(&series, 0.01, &mut v);
-        let (want, _) = of_series(&series, 0.01);
+        let (vel, acc) = of_series(&series, 0.01);
         let bits = |s: &PointSeries| -> Vec<Option<[u64; 3]>> {
             s.iter().map(|p| p.map(|p| p.map(f64::to_bits))).collect()
         };
-        assert_eq!(bits(&v), bits(&want));
+        assert_eq!(bits(&v), bits(&want_v));
+        assert_eq!(bits(&vel), bits(&want_v));
+        assert_eq!(bits(&acc), bits(&want_a));
         assert!(v[2].is_none() && v[4].is_some() && v[13].is_some());
+        assert!(acc[4].is_none() && acc[13].is_some() && acc[20].is_some());
     }
 
     /// Interior gains measured on a sampled sine: the central differences of `sin(w t)` are

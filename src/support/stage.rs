@@ -335,7 +335,9 @@ pub fn analyse_on(
     }
     if let Some(prog) = out.progression {
         if !static_trial && !foot.sacrum.is_empty() {
-            gait(&mut out, foot, com, xcom, up, times_s, rate_hz, prog);
+            gait(
+                &mut out, foot, com, xcom, up, times_s, rate_hz, prog, threads,
+            );
         }
     }
     out
@@ -529,6 +531,7 @@ fn gait(
     times_s: &[f64],
     rate_hz: f64,
     prog: [f64; 2],
+    threads: usize,
 ) {
     let n = com.len();
     let along = |side: usize, k: usize| -> Vec<Option<f64>> {
@@ -540,16 +543,29 @@ fn gait(
             })
             .collect()
     };
-    for side in 0..2 {
-        let toe = if foot.points[side][TOE].is_empty() {
+    let toe = |side: usize| {
+        if foot.points[side][TOE].is_empty() {
             MT2
         } else {
             TOE
-        };
-        if foot.points[side][HEEL].is_empty() || foot.points[side][toe].is_empty() {
-            return;
         }
-        out.events[side] = zeni_events(&along(side, HEEL), &along(side, toe), rate_hz);
+    };
+    // Events of the left foot when it has a heel and toe, then of the right when both have.
+    let has = |side: usize| {
+        !(foot.points[side][HEEL].is_empty() || foot.points[side][toe(side)].is_empty())
+    };
+    let sides: Vec<usize> = (0..2).take_while(|&side| has(side)).collect();
+    let events = crate::signal::in_groups(sides.clone(), threads, |group| {
+        group
+            .into_iter()
+            .map(|side| zeni_events(&along(side, HEEL), &along(side, toe(side)), rate_hz))
+            .collect::<Vec<_>>()
+    });
+    for (&side, e) in sides.iter().zip(events.into_iter().flatten()) {
+        out.events[side] = e;
+    }
+    if sides.len() < 2 {
+        return;
     }
     let ml = [-prog[1], prog[0]];
     let xcom_h = |f: usize| xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
