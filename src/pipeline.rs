@@ -14,16 +14,6 @@ use crate::signal::{self, SignalError};
 use crate::support::{self, SupportSeries};
 use crate::trial::{Trial, UpAxis};
 use crate::warning::Warning;
-thread_local! { pub static T0: std::cell::Cell<Option<std::time::Instant>> = const { std::cell::Cell::new(None) }; }
-pub fn tick(what: &str) {
-    T0.with(|t| {
-        let now = std::time::Instant::now();
-        if let Some(p) = t.get() {
-            eprintln!("{:>10.1} ms {}", (now - p).as_secs_f64() * 1e3, what);
-        }
-        t.set(Some(now));
-    });
-}
 
 /// Anything that stops a trial.
 #[derive(Debug, thiserror::Error)]
@@ -355,14 +345,14 @@ fn run_filled(
     let segments = take(n_segments);
 
     let dt = 1.0 / trial.rate_hz;
-    // The derivatives on this thread; the markers freed and the floor found on another.
+    // The floor found on another thread; the markers freed and the derivatives on this one.
     let (floor, (velocity, acceleration)) = signal::both(
         threads,
+        || support::floor_m(&foot, trial.up_axis, &config.support),
         || {
             drop(markers);
-            support::floor_m(&foot, trial.up_axis, &config.support)
+            signal::derivative::of_series(&system, dt)
         },
-        || signal::derivative::of_series(&system, dt),
     );
 
     let xcom_length_m = match config.xcom_length {

@@ -94,23 +94,36 @@ pub fn of_series(series: &[Option<[f64; 3]>], dt_s: f64) -> (PointSeries, PointS
         if len < 3 {
             continue;
         }
-        let run = &series[start..start + len];
-        let x = |i: usize, d: usize| run[i].map_or(f64::NAN, |p| p[d]);
-        let at = |f: usize| -> [f64; 3] {
-            [0, 1, 2].map(|d| match (len, f) {
-                (3, _) => (x(0, d) - 2.0 * x(1, d) + x(2, d)) / dt2,
-                (_, 0) => (2.0 * x(0, d) - 5.0 * x(1, d) + 4.0 * x(2, d) - x(3, d)) / dt2,
-                (_, f) if f == len - 1 => {
-                    (2.0 * x(f, d) - 5.0 * x(f - 1, d) + 4.0 * x(f - 2, d) - x(f - 3, d)) / dt2
-                }
-                (_, f) => (x(f + 1, d) - 2.0 * x(f, d) + x(f - 1, d)) / dt2,
-            })
-        };
-        for (f, slot) in acc[start..start + len].iter_mut().enumerate() {
-            *slot = Some(at(f));
+        // Every sample of the run is `Some`; the NaN is never used.
+        let x = |i: usize| series[start + i].unwrap_or([f64::NAN; 3]);
+        let out = &mut acc[start..start + len];
+        if len == 3 {
+            let (a, b, c) = (x(0), x(1), x(2));
+            let v = each(|d| (a[d] - 2.0 * b[d] + c[d]) / dt2);
+            out.fill(Some(v));
+            continue;
         }
+        let (a, b, c, e) = (x(0), x(1), x(2), x(3));
+        out[0] = Some(each(|d| {
+            (2.0 * a[d] - 5.0 * b[d] + 4.0 * c[d] - e[d]) / dt2
+        }));
+        for (f, slot) in out.iter_mut().enumerate().take(len - 1).skip(1) {
+            let (p, h, q) = (x(f - 1), x(f), x(f + 1));
+            *slot = Some(each(|d| (q[d] - 2.0 * h[d] + p[d]) / dt2));
+        }
+        let l = len - 1;
+        let (a, b, c, e) = (x(l), x(l - 1), x(l - 2), x(l - 3));
+        out[l] = Some(each(|d| {
+            (2.0 * a[d] - 5.0 * b[d] + 4.0 * c[d] - e[d]) / dt2
+        }));
     }
     (vel, acc)
+}
+
+/// `[f(0), f(1), f(2)]`: one formula on the three coordinates.
+#[inline]
+fn each(f: impl Fn(usize) -> f64) -> [f64; 3] {
+    [f(0), f(1), f(2)]
 }
 
 /// The runs of consecutive `Some` samples, as (first frame, length).
@@ -136,21 +149,23 @@ pub fn velocity_into(series: &[Option<[f64; 3]>], dt_s: f64, out: &mut PointSeri
         if len < 2 {
             continue;
         }
-        let run = &series[start..start + len];
-        let x = |i: usize, d: usize| run[i].map_or(f64::NAN, |p| p[d]);
-        let at = |f: usize| -> [f64; 3] {
-            [0, 1, 2].map(|d| match (len, f) {
-                (2, _) => (x(1, d) - x(0, d)) / dt_s,
-                (_, 0) => (-3.0 * x(0, d) + 4.0 * x(1, d) - x(2, d)) / (2.0 * dt_s),
-                (_, f) if f == len - 1 => {
-                    (3.0 * x(f, d) - 4.0 * x(f - 1, d) + x(f - 2, d)) / (2.0 * dt_s)
-                }
-                (_, f) => (x(f + 1, d) - x(f - 1, d)) / (2.0 * dt_s),
-            })
-        };
-        for (f, slot) in out[start..start + len].iter_mut().enumerate() {
-            *slot = Some(at(f));
+        // Every sample of the run is `Some`; the NaN is never used.
+        let x = |i: usize| series[start + i].unwrap_or([f64::NAN; 3]);
+        let out = &mut out[start..start + len];
+        let (a, b) = (x(0), x(1));
+        if len == 2 {
+            out.fill(Some(each(|d| (b[d] - a[d]) / dt_s)));
+            continue;
         }
+        let c = x(2);
+        out[0] = Some(each(|d| (-3.0 * a[d] + 4.0 * b[d] - c[d]) / (2.0 * dt_s)));
+        for (f, slot) in out.iter_mut().enumerate().take(len - 1).skip(1) {
+            let (p, q) = (x(f - 1), x(f + 1));
+            *slot = Some(each(|d| (q[d] - p[d]) / (2.0 * dt_s)));
+        }
+        let l = len - 1;
+        let (a, b, c) = (x(l), x(l - 1), x(l - 2));
+        out[l] = Some(each(|d| (3.0 * a[d] - 4.0 * b[d] + c[d]) / (2.0 * dt_s)));
     }
 }
 
