@@ -295,8 +295,22 @@ fn run_filled(
     } else {
         0
     };
-    let mut series: Vec<Series> = vec![vec![None; n]; 2 + n_loads + n_groups + n_segments];
-    let mut foot = support::FootFrames::with_frames(&models.body, n);
+    let n_series = 2 + n_loads + n_groups + n_segments;
+    let mut foot = support::FootFrames::new(&models.body, 0);
+    let n_foot = foot.series_mut().len();
+    // The series are allocated, and their memory first touched, on every thread at once.
+    let mut fresh = signal::in_groups(vec![(); n_series + n_foot], threads, |group| {
+        group
+            .into_iter()
+            .map(|()| vec![None; n])
+            .collect::<Vec<Series>>()
+    })
+    .into_iter()
+    .flatten();
+    let mut series: Vec<Series> = fresh.by_ref().take(n_series).collect();
+    for (slot, whole) in foot.series_mut().into_iter().zip(fresh) {
+        *slot = whole;
+    }
     let foot_ids = foot.point_ids();
     // Frames are independent: ranges of them run at once, each into its part of every series.
     let n_ranges = threads.clamp(1, (n / FRAMES_PER_RANGE_MIN).max(1));

@@ -520,6 +520,11 @@ fn dot(a: [f64; 2], b: [f64; 2]) -> f64 {
     a[0] * b[0] + a[1] * b[1]
 }
 
+/// The first of the frames `sorted` (in increasing order, as events are) after `f`.
+fn first_after(sorted: &[usize], f: usize) -> Option<usize> {
+    sorted.get(sorted.partition_point(|&t| t <= f)).copied()
+}
+
 /// Gait events and steps (module doc).
 #[allow(clippy::too_many_arguments)]
 fn gait(
@@ -580,16 +585,10 @@ fn gait(
             let d = heel
                 .zip(other_heel)
                 .map(|(a, b)| [a[0] - b[0], a[1] - b[1]]);
-            let toe_off = out.events[side].toe_offs.iter().copied().find(|&t| t > f);
+            let toe_off = first_after(&out.events[side].toe_offs, f);
             // Single stance on `side`: from the other foot's toe-off to its next heel strike.
-            let other_to = out.events[other].toe_offs.iter().copied().find(|&t| t > f);
-            let other_hs = other_to.and_then(|t0| {
-                out.events[other]
-                    .heel_strikes
-                    .iter()
-                    .copied()
-                    .find(|&h| h > t0)
-            });
+            let other_to = first_after(&out.events[other].toe_offs, f);
+            let other_hs = other_to.and_then(|t0| first_after(&out.events[other].heel_strikes, t0));
             let min_ml = match (other_to, other_hs) {
                 (Some(a), Some(b)) => out.mos_ml_m[a..b.min(n)]
                     .iter()
