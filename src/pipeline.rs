@@ -110,7 +110,7 @@ pub fn run_trial(
 ) -> Result<TrialResult, PipelineError> {
     let models = Models::resolve(trial, config, subject, table)?;
     let (markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
-    run_filled(
+    let (result, _markers) = run_filled(
         trial,
         models,
         markers,
@@ -120,12 +120,13 @@ pub fn run_trial(
         options,
         trial_threads(),
         true,
-    )
+    )?;
+    Ok(result)
 }
 
 /// [`run_trial`] on a trial read in the flat layout: each raw track is filled in place and
 /// low-passed on the same thread while it is in cache (the same result, less memory and
-/// time).
+/// time). The filled markers come back too, for the caller to free when it suits it.
 fn run_flat_trial(
     flat: crate::trial::FlatTrial,
     config: &Config,
@@ -133,7 +134,7 @@ fn run_flat_trial(
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
-) -> Result<TrialResult, PipelineError> {
+) -> Result<(TrialResult, signal::Markers), PipelineError> {
     let crate::trial::FlatTrial { trial, tracks } = flat;
     let models = Models::resolve(&trial, config, subject, table)?;
     let filter = low_pass_design(&trial, config)?;
@@ -244,7 +245,8 @@ fn frame_series(
     }
 }
 
-/// Everything after gap filling (module doc, order of operations).
+/// Everything after gap filling (module doc, order of operations); the result, and the markers
+/// it was computed from.
 #[allow(clippy::too_many_arguments)]
 fn run_filled(
     trial: &Trial,
@@ -256,7 +258,7 @@ fn run_filled(
     options: RunOptions,
     threads: usize,
     low_pass: bool,
-) -> Result<TrialResult, PipelineError> {
+) -> Result<(TrialResult, signal::Markers), PipelineError> {
     let labels = &trial.markers.labels;
     let Models {
         body: mut body_model,
@@ -359,14 +361,11 @@ fn run_filled(
     let segments = take(n_segments);
 
     let dt = 1.0 / trial.rate_hz;
-    // The floor found on another thread; the markers freed and the derivatives on this one.
+    // The floor found on another thread, the derivatives on this one.
     let (floor, (velocity, acceleration)) = signal::both(
         threads,
         || support::floor_m(&foot, trial.up_axis, &config.support),
-        || {
-            drop(markers);
-            signal::derivative::of_series(&system, dt)
-        },
+        || signal::derivative::of_series(&system, dt),
     );
 
     let xcom_length_m = match config.xcom_length {
@@ -436,7 +435,7 @@ fn run_filled(
         xcom_length_m,
         omega0_rad_s: omega0,
     };
-    Ok(TrialResult {
+    let result = TrialResult {
         name: trial.name.clone(),
         times_s: trial.times_s.clone(),
         rate_hz: trial.rate_hz,
@@ -460,7 +459,8 @@ fn run_filled(
         lift,
         model,
         warnings,
-    })
+    };
+    Ok((result, markers))
 }
 
 fn to_array(p: P) -> [f64; 3] {
@@ -573,7 +573,7 @@ pub fn process_file(
     });
     let trial = trial?;
     drop(bytes);
-    let result = run_flat_trial(
+    let (result, markers) = run_flat_trial(
         trial,
         &setup.config,
         &setup.subject,
@@ -583,6 +583,13 @@ pub fn process_file(
     )?;
     let summary =
         crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());
-    crate::report::write_outputs(dir, &result, &summary, &options.plots)?;
+    // The markers are freed on another thread while the outputs are written: freeing that
+    // much memory holds up the page faults of work running beside it, and writing makes few.
+    let ((), written) = signal::both(
+        threads,
+        || drop(markers),
+        || crate::report::write_outputs(dir, &result, &summary, &options.plots),
+    );
+    written?;
     Ok(summary)
 }
