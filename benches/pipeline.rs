@@ -3,8 +3,10 @@
 //! several times, and the medians are printed:
 //!
 //! - (a) parsing only: every number of the file read into `f64`, by the `csv` crate's
-//!   `ByteRecord` reader with `str::parse::<f64>` and with `fast-float2`, and by polars'
-//!   multi-threaded CSV reader; the fastest is the (a) figure;
+//!   `ByteRecord` reader with `str::parse::<f64>` and with `fast-float2`, by polars'
+//!   multi-threaded CSV reader, and by gravline's own reader of files held in memory (the file
+//!   mapped, its lines parsed on every core with an exact fast path for decimal cells, into
+//!   the flat tracks that (b) fills); the fastest is the (a) figure;
 //! - (b) [`gravline::pipeline::process_file`] end to end without plots (read, fill, filter,
 //!   joint centers, segments, CoM, derivatives, support, `frames.csv`, `summary.json`);
 //! - (c) the per-frame core on data in memory (body model, CoM, support), in microseconds per
@@ -107,23 +109,27 @@ fn main() -> Res<()> {
     let mut csv_std = Vec::new();
     let mut csv_fast = Vec::new();
     let mut polars = Vec::new();
+    let mut own = Vec::new();
     let mut pipeline = Vec::new();
     // Interleaved, so a change in the machine's load touches every figure alike.
     for _ in 0..args.reps {
         csv_std.push(timed(|| parse_csv(&csv_path, parse_std, n_numbers))?);
         csv_fast.push(timed(|| parse_csv(&csv_path, parse_fast, n_numbers))?);
         polars.push(timed(|| parse_polars(&csv_path, &labels))?);
+        own.push(timed(|| parse_own(&csv_path, n_numbers))?);
         pipeline.push(timed(|| {
             process_file(&csv_path, &setup, &out, &OutputOptions::default())?;
             Ok(())
         })?);
     }
     let (a_std, a_fast, a_polars) = (median(&csv_std), median(&csv_fast), median(&polars));
-    let a = a_std.min(a_fast).min(a_polars);
+    let a_own = median(&own);
+    let a = a_std.min(a_fast).min(a_polars).min(a_own);
     let b = median(&pipeline);
     println!("(a) parse only, csv ByteRecord + str::parse   {a_std:8.3} s");
     println!("(a) parse only, csv ByteRecord + fast-float2  {a_fast:8.3} s");
     println!("(a) parse only, polars multi-threaded reader  {a_polars:8.3} s");
+    println!("(a) parse only, gravline in-memory reader     {a_own:8.3} s");
     println!("(a) fastest                                   {a:8.3} s");
     println!("(b) process_file end to end, no plots         {b:8.3} s");
     println!(
@@ -233,6 +239,25 @@ fn parse_polars(path: &Path, labels: &[String]) -> Res<polars::prelude::DataFram
         return Err(format!("polars read {} columns", df.width()).into());
     }
     Ok(df)
+}
+
+/// Every number of the file by gravline's in-memory reader, as (b) reads it: the file mapped,
+/// its lines parsed on every core into flat tracks (clock, then three coordinates per marker).
+fn parse_own(path: &Path, n_numbers: usize) -> Res<gravline::trial::FlatTrial> {
+    let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let bytes = gravline::trial::TrialBytes::open(path)?;
+    let flat = gravline::trial::read_flat(
+        &bytes,
+        "long_walk.csv",
+        "long_walk",
+        &gravline::trial::ReadOptions::default(),
+        threads,
+    )?;
+    let read = flat.trial.times_s.len() + flat.tracks.iter().map(|t| 3 * t.len()).sum::<usize>();
+    if read != n_numbers {
+        return Err(format!("read {read} numbers, expected {n_numbers}").into());
+    }
+    Ok(flat)
 }
 
 // --- (c) the per-frame core ------------------------------------------------------------------

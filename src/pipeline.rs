@@ -110,7 +110,7 @@ pub fn run_trial(
 ) -> Result<TrialResult, PipelineError> {
     let models = Models::resolve(trial, config, subject, table)?;
     let (markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
-    run_filled(
+    let (result, _markers) = run_filled(
         trial,
         models,
         markers,
@@ -119,28 +119,52 @@ pub fn run_trial(
         table,
         options,
         trial_threads(),
-    )
+        true,
+    )?;
+    Ok(result)
 }
 
-/// [`run_trial`] on a trial it may take apart: the raw marker tracks are freed while they are
-/// filled (the same result, less memory).
-fn run_read_trial(
-    mut trial: Trial,
+/// [`run_trial`] on a trial read in the flat layout: each raw track is filled in place and
+/// low-passed on the same thread while it is in cache (the same result, less memory and
+/// time). The filled markers come back too, for the caller to free when it suits it.
+fn run_flat_trial(
+    flat: crate::trial::FlatTrial,
     config: &Config,
     subject: &Subject,
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
-) -> Result<TrialResult, PipelineError> {
+) -> Result<(TrialResult, signal::Markers), PipelineError> {
+    let crate::trial::FlatTrial { trial, tracks } = flat;
     let models = Models::resolve(&trial, config, subject, table)?;
-    let raw = crate::trial::RawMarkers {
-        labels: trial.markers.labels.clone(),
-        tracks: std::mem::take(&mut trial.markers.tracks),
-    };
-    let (markers, gaps) = signal::fill_gaps_owned(raw, &trial.times_s, config.max_gap_s, threads);
+    let filter = low_pass_design(&trial, config)?;
+    let (markers, gaps) = signal::gapfill::fill_flat(
+        trial.markers.labels.clone(),
+        tracks,
+        &trial.times_s,
+        config.max_gap_s,
+        filter.as_ref().map(|(c, pad)| (c, *pad)),
+        threads,
+    );
     run_filled(
-        &trial, models, markers, gaps, config, table, options, threads,
+        &trial, models, markers, gaps, config, table, options, threads, false,
     )
+}
+
+/// The low-pass section and its end pad, when the configuration asks for one.
+fn low_pass_design(
+    trial: &Trial,
+    config: &Config,
+) -> Result<Option<(signal::Coefficients, usize)>, PipelineError> {
+    let Some(cutoff_hz) = config.cutoff_hz else {
+        return Ok(None);
+    };
+    let c =
+        signal::design(trial.rate_hz, cutoff_hz, true).map_err(|source| PipelineError::Signal {
+            file: trial.file.clone(),
+            source,
+        })?;
+    Ok(Some((c, c.pad_len())))
 }
 
 /// The body and CoM models of a trial: everything that can be missing, found out before any
@@ -221,7 +245,8 @@ fn frame_series(
     }
 }
 
-/// Everything after gap filling (module doc, order of operations).
+/// Everything after gap filling (module doc, order of operations); the result, and the markers
+/// it was computed from.
 #[allow(clippy::too_many_arguments)]
 fn run_filled(
     trial: &Trial,
@@ -232,7 +257,8 @@ fn run_filled(
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
-) -> Result<TrialResult, PipelineError> {
+    low_pass: bool,
+) -> Result<(TrialResult, signal::Markers), PipelineError> {
     let labels = &trial.markers.labels;
     let Models {
         body: mut body_model,
@@ -245,13 +271,10 @@ fn run_filled(
         &trial.times_s,
         trial.rate_hz,
     ));
-    if let Some(cutoff_hz) = config.cutoff_hz {
-        signal::low_pass_on(&mut markers, trial.rate_hz, cutoff_hz, threads).map_err(|source| {
-            PipelineError::Signal {
-                file: trial.file.clone(),
-                source,
-            }
-        })?;
+    if low_pass {
+        if let Some((c, pad)) = low_pass_design(trial, config)? {
+            signal::butterworth::low_pass_with(&mut markers, &c, pad, threads);
+        }
     }
 
     let n = trial.n_frames();
@@ -274,8 +297,22 @@ fn run_filled(
     } else {
         0
     };
-    let mut series: Vec<Series> = vec![vec![None; n]; 2 + n_loads + n_groups + n_segments];
-    let mut foot = support::FootFrames::with_frames(&models.body, n);
+    let n_series = 2 + n_loads + n_groups + n_segments;
+    let mut foot = support::FootFrames::new(&models.body, 0);
+    let n_foot = foot.series_mut().len();
+    // The series are allocated, and their memory first touched, on every thread at once.
+    let mut fresh = signal::in_groups(vec![(); n_series + n_foot], threads, |group| {
+        group
+            .into_iter()
+            .map(|()| vec![None; n])
+            .collect::<Vec<Series>>()
+    })
+    .into_iter()
+    .flatten();
+    let mut series: Vec<Series> = fresh.by_ref().take(n_series).collect();
+    for (slot, whole) in foot.series_mut().into_iter().zip(fresh) {
+        *slot = whole;
+    }
     let foot_ids = foot.point_ids();
     // Frames are independent: ranges of them run at once, each into its part of every series.
     let n_ranges = threads.clamp(1, (n / FRAMES_PER_RANGE_MIN).max(1));
@@ -306,7 +343,6 @@ fn run_filled(
             );
         }
     });
-    drop(markers);
     let Models {
         body,
         com: com_model,
@@ -325,7 +361,12 @@ fn run_filled(
     let segments = take(n_segments);
 
     let dt = 1.0 / trial.rate_hz;
-    let (velocity, acceleration) = signal::derivative::of_series(&system, dt);
+    // The floor found on another thread, the derivatives on this one.
+    let (floor, (velocity, acceleration)) = signal::both(
+        threads,
+        || support::floor_m(&foot, trial.up_axis, &config.support),
+        || signal::derivative::of_series(&system, dt),
+    );
 
     let xcom_length_m = match config.xcom_length {
         XcomLength::Metres(m) => Some(m),
@@ -338,7 +379,7 @@ fn run_filled(
         });
     }
     let omega0 = xcom_length_m.map(com::omega0);
-    let (floor_m, floor_warning) = support::floor_m(&foot, trial.up_axis, &config.support);
+    let (floor_m, floor_warning) = floor;
     warnings.extend(floor_warning);
     let up = trial.up_axis;
     let xcom: Vec<Option<[f64; 3]>> = system
@@ -350,7 +391,7 @@ fn run_filled(
             Some(up.point(xi, floor_m))
         })
         .collect();
-    let support = support::analyse(
+    let support = support::stage::analyse_on(
         &foot,
         &system,
         &velocity,
@@ -360,6 +401,7 @@ fn run_filled(
         &trial.times_s,
         trial.rate_hz,
         &config.support,
+        threads,
     );
     warnings.extend(support.warnings.iter().cloned());
     let lift = loads.first().map(|bar| {
@@ -393,7 +435,7 @@ fn run_filled(
         xcom_length_m,
         omega0_rad_s: omega0,
     };
-    Ok(TrialResult {
+    let result = TrialResult {
         name: trial.name.clone(),
         times_s: trial.times_s.clone(),
         rate_hz: trial.rate_hz,
@@ -417,7 +459,8 @@ fn run_filled(
         lift,
         model,
         warnings,
-    })
+    };
+    Ok((result, markers))
 }
 
 fn to_array(p: P) -> [f64; 3] {
@@ -504,7 +547,7 @@ pub fn process_file(
     dir: &std::path::Path,
     options: &OutputOptions,
 ) -> Result<crate::report::Summary, Error> {
-    let bytes = std::fs::read(path).map_err(|source| Error::Read {
+    let bytes = crate::trial::TrialBytes::open(path).map_err(|source| Error::Read {
         path: path.display().to_string(),
         source,
     })?;
@@ -515,7 +558,7 @@ pub fn process_file(
     // The digest is taken on its own thread while the numbers are parsed.
     let (input_sha256, trial) = std::thread::scope(|s| {
         let digest = (threads > 1).then(|| s.spawn(|| crate::report::sha256_hex(&bytes)));
-        let trial = crate::trial::read_trial_bytes(
+        let trial = crate::trial::read_flat(
             &bytes,
             &path.display().to_string(),
             &stem,
@@ -530,7 +573,7 @@ pub fn process_file(
     });
     let trial = trial?;
     drop(bytes);
-    let result = run_read_trial(
+    let (result, markers) = run_flat_trial(
         trial,
         &setup.config,
         &setup.subject,
@@ -540,6 +583,13 @@ pub fn process_file(
     )?;
     let summary =
         crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());
-    crate::report::write_outputs(dir, &result, &summary, &options.plots)?;
+    // The markers are freed on another thread while the outputs are written: freeing that
+    // much memory holds up the page faults of work running beside it, and writing makes few.
+    let ((), written) = signal::both(
+        threads,
+        || drop(markers),
+        || crate::report::write_outputs(dir, &result, &summary, &options.plots),
+    );
+    written?;
     Ok(summary)
 }

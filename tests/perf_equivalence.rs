@@ -7,8 +7,12 @@
 //!   writer it replaced (`write!` with `{:.6}` for every cell, kept below as the reference),
 //!   byte for byte, on synthetic walks, squats (loads, mid-foot) and jumps, with segment and
 //!   group columns;
-//! - `process_file` (in-memory reader, raw tracks freed while filled, work shared among threads)
-//!   against `run_trial` on the streamed trial and the reference writer: the same `frames.csv`.
+//! - `process_file` (in-memory reader into flat tracks, gaps filled in place and each track
+//!   low-passed while in cache, work shared among threads) against `run_trial` on the streamed
+//!   trial and the reference writer: the same `frames.csv`, and the same bytes from the writer
+//!   on any number of threads;
+//! - the support stage on several threads against one thread: the same series, outlines,
+//!   footprints, events and steps.
 //!
 //! The reference for each is the project's own general code (the general reader is checked
 //! against the fixtures in tests/trial_reader.rs); the synthetic trials are invented data.
@@ -268,5 +272,74 @@ fn process_file_gives_the_general_paths_frames() {
     )
     .unwrap();
     assert!(r.valid_fraction() > 0.9);
-    assert!(got == reference_frames(&r), "frames.csv differs");
+    let want = reference_frames(&r);
+    assert!(got == want, "frames.csv differs");
+    // Chunks of rows formatted on several threads give the same bytes (6 000 rows: 3 chunks).
+    for threads in [1, 2, 3, 5] {
+        let mut text = Vec::new();
+        gravline::report::write_frames_on(&r, &mut text, threads).unwrap();
+        assert!(text == want, "frames.csv differs on {threads} threads");
+    }
+}
+
+#[test]
+fn support_stage_gives_the_same_series_on_any_number_of_threads() {
+    use gravline::body::model::FOOT_POINTS;
+    use gravline::body::BodyModel;
+    use gravline::com::ComModel;
+    use gravline::support::stage::{analyse_on, floor_m, FootFrames};
+
+    // 20 000 frames: the per-frame work is cut into up to 4 ranges.
+    let bytes = csv_of(&long_trial(20_000, 45, 5));
+    let config = Config::default();
+    let subject = Subject::new(70.0, 1.75, Sex::Male);
+    let table = SegmentTable::load(&config.table, subject.sex).unwrap();
+    let trial = read_trial_from(bytes.as_slice(), "t.csv", "t", &config.read_options()).unwrap();
+    let labels = &trial.markers.labels;
+    let mut body =
+        BodyModel::build(labels, &trial.file, &config, &subject, &table, &FOOT_POINTS).unwrap();
+    let com_model = ComModel::new(labels, &trial.file, &config, &body).unwrap();
+    let (markers, _) =
+        gravline::signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
+    body.measure_leg_length(&markers);
+    let n = trial.n_frames();
+    let series: Vec<Vec<Option<[f64; 3]>>> =
+        markers.tracks.iter().map(|t| t.to_series(n)).collect();
+    let mut frame_markers = vec![None; labels.len()];
+    let (mut points, mut seg) = (Vec::new(), Vec::new());
+    let mut system = Vec::with_capacity(n);
+    let mut foot = FootFrames::new(&body, n);
+    for f in 0..n {
+        for (slot, s) in frame_markers.iter_mut().zip(&series) {
+            *slot = s[f];
+        }
+        body.evaluate(&frame_markers, &mut points);
+        let c = com_model.frame(&body, &points, &frame_markers, &mut seg);
+        system.push(c.system.map(|p| [p.x, p.y, p.z]));
+        foot.push(&points);
+    }
+    let (velocity, _) = gravline::signal::derivative::of_series(&system, 1.0 / trial.rate_hz);
+    let (floor, _) = floor_m(&foot, trial.up_axis, &config.support);
+    // The CoM stands in for the XCoM: any series of points serves the comparison.
+    let run = |threads: usize| {
+        let s = analyse_on(
+            &foot,
+            &system,
+            &velocity,
+            &system,
+            floor,
+            trial.up_axis,
+            &trial.times_s,
+            trial.rate_hz,
+            &config.support,
+            threads,
+        );
+        // Debug prints every number exactly (shortest round-trip text).
+        format!("{s:?}")
+    };
+    let want = run(1);
+    assert!(want.contains("heel_strike_s"), "no steps found");
+    for threads in [2, 3, 4, 7] {
+        assert!(run(threads) == want, "{threads} threads");
+    }
 }

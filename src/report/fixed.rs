@@ -49,15 +49,38 @@ pub fn push_fixed6(buf: &mut Vec<u8>, v: f64) {
         (fraction | (1u64 << 52), (1075 - biased) as u32)
     };
     let millionths = round_shifted(u128::from(m) * u128::from(SCALE), shift);
-    if negative {
-        buf.push(b'-');
-    }
-    push_u64(buf, millionths / SCALE);
-    buf.push(b'.');
+    // The text is built from its end in `text` (sign, at most 12 integer digits, point, six
+    // decimals) and appended at once.
+    let mut text = [0u8; 24];
+    let mut i = text.len() - 7;
+    text[i] = b'.';
     let frac = (millionths % SCALE) as usize;
-    for pair in [frac / 10_000, frac / 100 % 100, frac % 100] {
-        buf.extend_from_slice(&PAIRS[2 * pair..2 * pair + 2]);
+    for (k, pair) in [frac / 10_000, frac / 100 % 100, frac % 100]
+        .into_iter()
+        .enumerate()
+    {
+        text[i + 1 + 2 * k..i + 3 + 2 * k].copy_from_slice(&PAIRS[2 * pair..2 * pair + 2]);
     }
+    let mut n = millionths / SCALE;
+    while n >= 100 {
+        let pair = (n % 100) as usize;
+        n /= 100;
+        i -= 2;
+        text[i..i + 2].copy_from_slice(&PAIRS[2 * pair..2 * pair + 2]);
+    }
+    if n >= 10 {
+        let pair = n as usize;
+        i -= 2;
+        text[i..i + 2].copy_from_slice(&PAIRS[2 * pair..2 * pair + 2]);
+    } else {
+        i -= 1;
+        text[i] = b'0' + n as u8;
+    }
+    if negative {
+        i -= 1;
+        text[i] = b'-';
+    }
+    buf.extend_from_slice(&text[i..]);
 }
 
 /// `n / 2^shift` rounded to the nearest integer, ties to even. `n < 2^73` and the result is
@@ -75,27 +98,6 @@ fn round_shifted(n: u128, shift: u32) -> u64 {
     } else {
         q
     }
-}
-
-/// Appends the decimal digits of `n`.
-fn push_u64(buf: &mut Vec<u8>, mut n: u64) {
-    let mut digits = [0u8; 20];
-    let mut i = digits.len();
-    while n >= 100 {
-        let pair = (n % 100) as usize;
-        n /= 100;
-        i -= 2;
-        digits[i..i + 2].copy_from_slice(&PAIRS[2 * pair..2 * pair + 2]);
-    }
-    if n >= 10 {
-        let pair = n as usize;
-        i -= 2;
-        digits[i..i + 2].copy_from_slice(&PAIRS[2 * pair..2 * pair + 2]);
-    } else {
-        i -= 1;
-        digits[i] = b'0' + n as u8;
-    }
-    buf.extend_from_slice(&digits[i..]);
 }
 
 #[cfg(test)]

@@ -1,6 +1,7 @@
 //! `frames.csv` and `steps.csv` writers. Columns in the order of DESIGN.md 8; metres, m/s,
 //! m/s^2, m^2; missing values are empty cells; booleans are `true` / `false`. Numbers have six
-//! decimals (the text of `{:.6}`); no row allocates.
+//! decimals (the text of `{:.6}`); no row allocates, and chunks of rows are formatted on several
+//! threads at once.
 
 use super::fixed::push_fixed6;
 use crate::pipeline::TrialResult;
@@ -64,9 +65,6 @@ fn opt(w: &mut impl Write, v: Option<f64>) -> io::Result<()> {
     }
 }
 
-/// Bytes of rows gathered before each write to the writer.
-const CHUNK_BYTES: usize = 1 << 16;
-
 /// One `frames.csv` row at a time, appended to a reused buffer.
 struct Row<'a> {
     buf: &'a mut Vec<u8>,
@@ -97,54 +95,111 @@ fn get3(v: &[Option<[f64; 3]>], f: usize) -> Option<&[f64; 3]> {
     v.get(f).and_then(Option::as_ref)
 }
 
-/// Writes `frames.csv`: rows are formatted into one reused buffer (numbers by
-/// [`push_fixed6`], the same text as `{:.6}`) and handed to `w` in 64 KiB chunks.
-pub fn write_frames(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
+/// Writes `frames.csv`: rows are formatted into a reused buffer (numbers by [`push_fixed6`],
+/// the same text as `{:.6}`) and handed to `w` in chunks of [`CHUNK_ROWS`] rows.
+pub fn write_frames(r: &TrialResult, w: impl Write) -> io::Result<()> {
+    write_frames_on(r, w, 1)
+}
+
+/// Rows per chunk of `frames.csv` (about 0.5 MB for a walk).
+const CHUNK_ROWS: usize = 2048;
+
+/// [`write_frames`] with the chunks formatted on up to `threads` threads of their own (chunk
+/// `i` on thread `i % threads`, two buffers each) while this thread writes them in order: the
+/// same bytes for any number of threads.
+pub fn write_frames_on(r: &TrialResult, mut w: impl Write, threads: usize) -> io::Result<()> {
+    use std::sync::mpsc;
+
     writeln!(w, "{}", frames_header(r).join(","))?;
+    let n = r.times_s.len();
+    let n_chunks = n.div_ceil(CHUNK_ROWS);
+    let format = |chunk: usize, buf: &mut Vec<u8>| {
+        buf.clear();
+        for f in chunk * CHUNK_ROWS..((chunk + 1) * CHUNK_ROWS).min(n) {
+            push_row(r, f, buf);
+        }
+    };
+    let workers = threads.min(n_chunks);
+    if workers <= 1 {
+        let mut buf = Vec::new();
+        for chunk in 0..n_chunks {
+            format(chunk, &mut buf);
+            w.write_all(&buf)?;
+        }
+        return Ok(());
+    }
+    std::thread::scope(|s| {
+        let mut links = Vec::with_capacity(workers);
+        for k in 0..workers {
+            let (full_tx, full_rx) = mpsc::sync_channel::<Vec<u8>>(1);
+            let (empty_tx, empty_rx) = mpsc::channel::<Vec<u8>>();
+            for _ in 0..2 {
+                // The receiver is alive: this cannot fail.
+                let _ = empty_tx.send(Vec::new());
+            }
+            s.spawn(move || {
+                for chunk in (k..n_chunks).step_by(workers) {
+                    // Either channel closes when the writer stops early (a write error).
+                    let Ok(mut buf) = empty_rx.recv() else { return };
+                    format(chunk, &mut buf);
+                    if full_tx.send(buf).is_err() {
+                        return;
+                    }
+                }
+            });
+            links.push((full_rx, empty_tx));
+        }
+        for chunk in 0..n_chunks {
+            let (full_rx, empty_tx) = &links[chunk % workers];
+            // A closed channel means a formatting thread panicked; the scope passes that on.
+            let buf = full_rx
+                .recv()
+                .map_err(|_| io::Error::other("frames.csv rows were not formatted"))?;
+            w.write_all(&buf)?;
+            let _ = empty_tx.send(buf);
+        }
+        Ok(())
+    })
+}
+
+/// Appends row `f` of `frames.csv`, line end included.
+fn push_row(r: &TrialResult, f: usize, buf: &mut Vec<u8>) {
     let s = &r.support;
     let at = |v: &[Option<f64>], f: usize| v.get(f).copied().flatten();
     let lift = r.lift.as_ref();
-    let mut buf = Vec::with_capacity(CHUNK_BYTES + 4096);
-    for (f, &t) in r.times_s.iter().enumerate() {
-        push_fixed6(&mut buf, t);
-        let mut row = Row { buf: &mut buf };
-        row.flag(r.is_valid(f));
-        row.opt3(get3(&r.com, f));
-        let v = get3(&r.velocity, f);
-        row.opt3(v);
-        row.opt(v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()));
-        row.opt3(get3(&r.acceleration, f));
-        row.opt3(get3(&r.xcom, f));
-        row.opt(at(&s.bos_area_m2, f));
-        row.opt(at(&s.bos_margin_m, f));
-        row.opt(at(&s.mos_m, f));
-        row.opt(at(&s.mos_ap_m, f));
-        row.opt(at(&s.mos_ml_m, f));
-        for side in 0..2 {
-            row.flag(s.contact[side].get(f).copied().unwrap_or(false));
-        }
-        if !r.load_names.is_empty() {
-            row.opt3(get3(&r.body_com, f));
-            for l in &r.loads {
-                row.opt3(get3(l, f));
-            }
-            row.opt3(lift.and_then(|l| get3(&l.midfoot, f)));
-            row.opt(lift.and_then(|l| at(&l.com_midfoot_ap_m, f)));
-            row.opt(lift.and_then(|l| at(&l.bar_midfoot_ap_m, f)));
-        }
-        for g in &r.groups {
-            row.opt3(get3(g, f));
-        }
-        for g in &r.segments {
-            row.opt3(get3(g, f));
-        }
-        buf.push(b'\n');
-        if buf.len() >= CHUNK_BYTES {
-            w.write_all(&buf)?;
-            buf.clear();
-        }
+    push_fixed6(buf, r.times_s[f]);
+    let mut row = Row { buf };
+    row.flag(r.is_valid(f));
+    row.opt3(get3(&r.com, f));
+    let v = get3(&r.velocity, f);
+    row.opt3(v);
+    row.opt(v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()));
+    row.opt3(get3(&r.acceleration, f));
+    row.opt3(get3(&r.xcom, f));
+    row.opt(at(&s.bos_area_m2, f));
+    row.opt(at(&s.bos_margin_m, f));
+    row.opt(at(&s.mos_m, f));
+    row.opt(at(&s.mos_ap_m, f));
+    row.opt(at(&s.mos_ml_m, f));
+    for side in 0..2 {
+        row.flag(s.contact[side].get(f).copied().unwrap_or(false));
     }
-    w.write_all(&buf)
+    if !r.load_names.is_empty() {
+        row.opt3(get3(&r.body_com, f));
+        for l in &r.loads {
+            row.opt3(get3(l, f));
+        }
+        row.opt3(lift.and_then(|l| get3(&l.midfoot, f)));
+        row.opt(lift.and_then(|l| at(&l.com_midfoot_ap_m, f)));
+        row.opt(lift.and_then(|l| at(&l.bar_midfoot_ap_m, f)));
+    }
+    for g in &r.groups {
+        row.opt3(get3(g, f));
+    }
+    for g in &r.segments {
+        row.opt3(get3(g, f));
+    }
+    row.buf.push(b'\n');
 }
 
 /// Writes `reps.csv`: one row per repetition of the bar (lifts).

@@ -10,7 +10,7 @@ pub mod frames;
 pub mod plots;
 pub mod summary;
 
-pub use frames::{frames_header, write_frames, write_reps, write_steps};
+pub use frames::{frames_header, write_frames, write_frames_on, write_reps, write_steps};
 pub use summary::{Summary, CAUTIONS};
 
 use std::io::Write;
@@ -70,7 +70,8 @@ pub fn write_outputs(
         move |source| crate::pipeline::Error::Write { path, source }
     };
     let frames = dir.join("frames.csv");
-    write_atomic(&frames, |w| write_frames(result, w)).map_err(err(&frames))?;
+    let threads = crate::pipeline::trial_threads();
+    write_atomic(&frames, |w| write_frames_on(result, w, threads)).map_err(err(&frames))?;
     if !result.support.steps.is_empty() {
         let steps = dir.join("steps.csv");
         write_atomic(&steps, |w| write_steps(result, w)).map_err(err(&steps))?;

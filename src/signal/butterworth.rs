@@ -211,13 +211,15 @@ pub fn filtfilt_with_pad(c: &Coefficients, x: &[f64], pad_len: usize) -> Vec<f64
 
 /// [`filtfilt_with_pad`] of the three coordinates of `xyz` at once, in place: the same
 /// arithmetic per coordinate in the same order, so the same bits, with the three recurrences
-/// interleaved (each pass is bound by the latency of its recurrence) and the backward pass run
-/// from the end instead of on a reversed copy. `ext` is scratch space, reused between calls.
+/// interleaved (each pass is bound by the latency of its recurrence), the samples filtered
+/// where they are and only the two end pads held apart, in `pads` (scratch space, reused
+/// between calls). The backward pass stops at the first sample: what it would give over the
+/// front pad is cut off anyway.
 pub fn filtfilt_xyz_with_pad(
     c: &Coefficients,
     xyz: &mut [[f64; 3]],
     pad_len: usize,
-    ext: &mut Vec<[f64; 3]>,
+    pads: &mut Vec<[f64; 3]>,
 ) {
     let n = xyz.len();
     if n < 3 {
@@ -232,11 +234,12 @@ pub fn filtfilt_xyz_with_pad(
             2.0 * base[2] - x[2],
         ]
     };
-    ext.clear();
-    ext.reserve(n + 2 * p);
-    ext.extend((1..=p).rev().map(|i| reflect(first, xyz[i])));
-    ext.extend_from_slice(xyz);
-    ext.extend((1..=p).map(|i| reflect(last, xyz[n - 1 - i])));
+    // The front pad x_{-p} .. x_{-1}, then the back pad x_{n} .. x_{n-1+p}, both taken before
+    // the samples change.
+    pads.clear();
+    pads.extend((1..=p).rev().map(|i| reflect(first, xyz[i])));
+    pads.extend((1..=p).map(|i| reflect(last, xyz[n - 1 - i])));
+    let (front, back) = pads.split_at_mut(p);
 
     let zi = c.step_state();
     let step = |z: &mut [[f64; 2]; 3], v: &mut [f64; 3]| {
@@ -249,15 +252,19 @@ pub fn filtfilt_xyz_with_pad(
         }
     };
     let start = |x: [f64; 3]| [0, 1, 2].map(|d| [zi[0] * x[d], zi[1] * x[d]]);
-    let mut z = start(ext[0]);
-    for v in ext.iter_mut() {
+    let mut z = start(front.first().copied().unwrap_or(first));
+    for v in front
+        .iter_mut()
+        .chain(xyz.iter_mut())
+        .chain(back.iter_mut())
+    {
         step(&mut z, v);
     }
-    let mut z = start(ext[ext.len() - 1]);
-    for v in ext.iter_mut().rev() {
+    let end = back.last().copied().unwrap_or(xyz[n - 1]);
+    let mut z = start(end);
+    for v in back.iter_mut().rev().chain(xyz.iter_mut().rev()) {
         step(&mut z, v);
     }
-    xyz.copy_from_slice(&ext[p..p + n]);
 }
 
 /// Low-pass filters every coordinate of every run of every marker in place (Winter-corrected,
@@ -275,17 +282,21 @@ pub fn low_pass_on(
     threads: usize,
 ) -> Result<(), SignalError> {
     let c = design(rate_hz, cutoff_hz, true)?;
-    let pad = c.pad_len();
+    low_pass_with(markers, &c, c.pad_len(), threads);
+    Ok(())
+}
+
+/// [`low_pass_on`] with a designed section and end pad.
+pub(crate) fn low_pass_with(markers: &mut Markers, c: &Coefficients, pad: usize, threads: usize) {
     let tracks: Vec<&mut super::Track> = markers.tracks.iter_mut().collect();
     super::in_groups(tracks, threads, |group| {
         let mut ext = Vec::new();
         for track in group {
             for run in track.runs_mut() {
-                filtfilt_xyz_with_pad(&c, &mut run.xyz, pad, &mut ext);
+                filtfilt_xyz_with_pad(c, &mut run.xyz, pad, &mut ext);
             }
         }
     });
-    Ok(())
 }
 
 #[cfg(test)]

@@ -81,49 +81,91 @@ pub fn second(x: &[f64], dt_s: f64) -> Vec<f64> {
 
 /// A 3D position series as velocity and acceleration series: each run of consecutive `Some`
 /// samples is differentiated on its own, never across a gap. A run of 1 frame gives `None` for
-/// both; a run of 2 frames gives a velocity (forward difference) and no acceleration.
+/// both; a run of 2 frames gives a velocity (forward difference) and no acceleration. The
+/// values are those of [`first`] and [`second`] on each coordinate of each run, computed in
+/// place.
 pub fn of_series(series: &[Option<[f64; 3]>], dt_s: f64) -> (PointSeries, PointSeries) {
+    let mut vel = Vec::new();
+    velocity_into(series, dt_s, &mut vel);
     let n = series.len();
-    let mut vel = vec![None; n];
     let mut acc = vec![None; n];
-    let mut start = 0;
-    while start < n {
-        if series[start].is_none() {
-            start += 1;
+    let dt2 = dt_s * dt_s;
+    for (start, len) in runs(series) {
+        if len < 3 {
             continue;
         }
-        let len = series[start..].iter().take_while(|s| s.is_some()).count();
-        let run: Vec<[f64; 3]> = series[start..start + len]
-            .iter()
-            .flatten()
-            .copied()
-            .collect();
-        if len >= 2 {
-            write_derivative(&mut vel[start..start + len], &run, |c| first(c, dt_s));
+        // Every sample of the run is `Some`; the NaN is never used.
+        let x = |i: usize| series[start + i].unwrap_or([f64::NAN; 3]);
+        let out = &mut acc[start..start + len];
+        if len == 3 {
+            let (a, b, c) = (x(0), x(1), x(2));
+            let v = each(|d| (a[d] - 2.0 * b[d] + c[d]) / dt2);
+            out.fill(Some(v));
+            continue;
         }
-        if len >= 3 {
-            write_derivative(&mut acc[start..start + len], &run, |c| second(c, dt_s));
+        let (a, b, c, e) = (x(0), x(1), x(2), x(3));
+        out[0] = Some(each(|d| {
+            (2.0 * a[d] - 5.0 * b[d] + 4.0 * c[d] - e[d]) / dt2
+        }));
+        for (f, slot) in out.iter_mut().enumerate().take(len - 1).skip(1) {
+            let (p, h, q) = (x(f - 1), x(f), x(f + 1));
+            *slot = Some(each(|d| (q[d] - 2.0 * h[d] + p[d]) / dt2));
         }
-        start += len;
+        let l = len - 1;
+        let (a, b, c, e) = (x(l), x(l - 1), x(l - 2), x(l - 3));
+        out[l] = Some(each(|d| {
+            (2.0 * a[d] - 5.0 * b[d] + 4.0 * c[d] - e[d]) / dt2
+        }));
     }
     (vel, acc)
 }
 
-/// Differentiates each coordinate of `run` with `diff` into `out` (same length).
-fn write_derivative(
-    out: &mut [Option<[f64; 3]>],
-    run: &[[f64; 3]],
-    diff: impl Fn(&[f64]) -> Vec<f64>,
-) {
-    let mut xyz = vec![[0.0; 3]; run.len()];
-    for d in 0..3 {
-        let coord: Vec<f64> = run.iter().map(|p| p[d]).collect();
-        for (slot, v) in xyz.iter_mut().zip(diff(&coord)) {
-            slot[d] = v;
+/// `[f(0), f(1), f(2)]`: one formula on the three coordinates.
+#[inline]
+fn each(f: impl Fn(usize) -> f64) -> [f64; 3] {
+    [f(0), f(1), f(2)]
+}
+
+/// The runs of consecutive `Some` samples, as (first frame, length).
+fn runs(series: &[Option<[f64; 3]>]) -> impl Iterator<Item = (usize, usize)> + '_ {
+    let mut start = 0;
+    std::iter::from_fn(move || {
+        while series.get(start)?.is_none() {
+            start += 1;
         }
-    }
-    for (slot, p) in out.iter_mut().zip(xyz) {
-        *slot = Some(p);
+        let len = series[start..].iter().take_while(|s| s.is_some()).count();
+        let run = (start, len);
+        start += len;
+        Some(run)
+    })
+}
+
+/// The velocity series of [`of_series`] into `out` (resized to the series), without the
+/// acceleration and without allocating beyond `out`.
+pub fn velocity_into(series: &[Option<[f64; 3]>], dt_s: f64, out: &mut PointSeries) {
+    out.clear();
+    out.resize(series.len(), None);
+    for (start, len) in runs(series) {
+        if len < 2 {
+            continue;
+        }
+        // Every sample of the run is `Some`; the NaN is never used.
+        let x = |i: usize| series[start + i].unwrap_or([f64::NAN; 3]);
+        let out = &mut out[start..start + len];
+        let (a, b) = (x(0), x(1));
+        if len == 2 {
+            out.fill(Some(each(|d| (b[d] - a[d]) / dt_s)));
+            continue;
+        }
+        let c = x(2);
+        out[0] = Some(each(|d| (-3.0 * a[d] + 4.0 * b[d] - c[d]) / (2.0 * dt_s)));
+        for (f, slot) in out.iter_mut().enumerate().take(len - 1).skip(1) {
+            let (p, q) = (x(f - 1), x(f + 1));
+            *slot = Some(each(|d| (q[d] - p[d]) / (2.0 * dt_s)));
+        }
+        let l = len - 1;
+        let (a, b, c) = (x(l), x(l - 1), x(l - 2));
+        out[l] = Some(each(|d| (3.0 * a[d] - 4.0 * b[d] + c[d]) / (2.0 * dt_s)));
     }
 }
 
@@ -132,6 +174,55 @@ mod tests {
     use super::*;
     use approx::assert_abs_diff_eq;
     use std::f64::consts::PI;
+
+    #[test]
+    fn series_derivatives_are_first_and_second_on_each_run() {
+        // Runs of 1, 2, 3 and 40 frames of a curved path (synthetic).
+        let p = |f: usize| {
+            let t = f as f64 * 0.01;
+            Some([t.sin(), t * t - 0.3, (2.0 * t).cos() * 1.7])
+        };
+        let mut series: Vec<Option<[f64; 3]>> = (0..60).map(p).collect();
+        for gap in [1, 3, 6, 10, 11, 12, 16, 17, 58] {
+            series[gap] = None;
+        }
+        // The reference: `first` and `second` on each coordinate of each run.
+        let (mut want_v, mut want_a) = (vec![None; 60], vec![None; 60]);
+        let mut f = 0;
+        while f < 60 {
+            let len = series[f..].iter().take_while(|p| p.is_some()).count();
+            if len == 0 {
+                f += 1;
+                continue;
+            }
+            let coord = |d: usize| -> Vec<f64> {
+                series[f..f + len].iter().flatten().map(|p| p[d]).collect()
+            };
+            let (v, a): (Vec<Vec<f64>>, Vec<Vec<f64>>) = (0..3)
+                .map(|d| (first(&coord(d), 0.01), second(&coord(d), 0.01)))
+                .unzip();
+            for k in 0..len {
+                if len >= 2 {
+                    want_v[f + k] = Some([v[0][k], v[1][k], v[2][k]]);
+                }
+                if len >= 3 {
+                    want_a[f + k] = Some([a[0][k], a[1][k], a[2][k]]);
+                }
+            }
+            f += len;
+        }
+        let mut v = vec![Some([9.0; 3])];
+        velocity_into(&series, 0.01, &mut v);
+        let (vel, acc) = of_series(&series, 0.01);
+        let bits = |s: &PointSeries| -> Vec<Option<[u64; 3]>> {
+            s.iter().map(|p| p.map(|p| p.map(f64::to_bits))).collect()
+        };
+        assert_eq!(bits(&v), bits(&want_v));
+        assert_eq!(bits(&vel), bits(&want_v));
+        assert_eq!(bits(&acc), bits(&want_a));
+        assert!(v[2].is_none() && v[4].is_some() && v[13].is_some());
+        assert!(acc[4].is_none() && acc[13].is_some() && acc[20].is_some());
+    }
 
     /// Interior gains measured on a sampled sine: the central differences of `sin(w t)` are
     /// exactly `G1 w cos(w t)` and `-G2 w^2 sin(w t)`.

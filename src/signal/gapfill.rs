@@ -26,6 +26,7 @@
 //! the spline best for short gaps (shared/reference/methods.md 4); about 0.1 s is the usual
 //! limit (common practice, no source), hence the default `max_gap_s` of 0.10 s (DESIGN.md 6).
 
+use super::butterworth::{filtfilt_xyz_with_pad, Coefficients};
 use super::spline::NaturalSpline;
 use super::{Markers, Run, Track};
 use crate::trial::RawMarkers;
@@ -118,6 +119,153 @@ pub fn fill_gaps_owned(
         n_frames: times_s.len(),
     };
     (markers, filled)
+}
+
+/// As [`fill_gaps_owned`], on tracks held flat (`tracks[marker][frame]`, a sample missing
+/// when a coordinate is not finite), each track then low-passed by `low_pass` (a section and
+/// its end pad, as [`low_pass`](super::low_pass) does it) while it is still in cache. A
+/// track's buffer is filled in place and becomes its longest run:
+/// no new memory for the samples but for the other runs of a track. The same markers and gaps
+/// as [`fill_gaps`] on the same samples held as `Option`s.
+pub(crate) fn fill_flat(
+    labels: Vec<String>,
+    tracks: Vec<Vec<[f64; 3]>>,
+    times_s: &[f64],
+    max_gap_s: f64,
+    low_pass: Option<(&Coefficients, usize)>,
+    threads: usize,
+) -> (Markers, Vec<FilledGap>) {
+    let items: Vec<(usize, Vec<[f64; 3]>)> = tracks.into_iter().enumerate().collect();
+    let groups = super::in_groups(items, threads, |group| {
+        let mut filled = Vec::new();
+        let mut spline = NaturalSpline::default();
+        let mut ext = Vec::new();
+        let tracks: Vec<Track> = group
+            .into_iter()
+            .map(|(marker, samples)| {
+                let mut track = fill_flat_track(
+                    marker,
+                    samples,
+                    times_s,
+                    max_gap_s,
+                    &mut filled,
+                    &mut spline,
+                );
+                if let Some((c, pad)) = low_pass {
+                    for run in track.runs_mut() {
+                        filtfilt_xyz_with_pad(c, &mut run.xyz, pad, &mut ext);
+                    }
+                }
+                track
+            })
+            .collect();
+        (tracks, filled)
+    });
+    let mut tracks = Vec::with_capacity(labels.len());
+    let mut filled = Vec::new();
+    for (t, f) in groups {
+        tracks.extend(t);
+        filled.extend(f);
+    }
+    let markers = Markers {
+        labels,
+        tracks,
+        n_frames: times_s.len(),
+    };
+    (markers, filled)
+}
+
+/// [`fill_track`] on a flat track, in place (see [`fill_flat`]).
+fn fill_flat_track(
+    marker: usize,
+    mut samples: Vec<[f64; 3]>,
+    times_s: &[f64],
+    max_gap_s: f64,
+    filled: &mut Vec<FilledGap>,
+    spline: &mut NaturalSpline<3>,
+) -> Track {
+    let n = times_s.len();
+    let present = present_runs_flat(&samples, n);
+    // The frames of each run to be, `start .. end`, in order.
+    let mut spans = Vec::with_capacity(present.len());
+    let mut i = 0;
+    while i < present.len() {
+        let mut j = i;
+        while j + 1 < present.len() && is_fillable(present[j], present[j + 1], times_s, max_gap_s) {
+            j += 1;
+        }
+        let stretch = &present[i..=j];
+        let points = stretch
+            .iter()
+            .flat_map(|p| p.start..p.end)
+            .map(|f| (times_s[f], samples[f]));
+        if stretch.len() > 1 && spline.refit(points) {
+            for w in stretch.windows(2) {
+                for f in w[0].end..w[1].start {
+                    samples[f] = spline.eval(times_s[f]);
+                }
+                filled.push(FilledGap {
+                    marker,
+                    start_frame: w[0].end,
+                    len_frames: w[1].start - w[0].end,
+                });
+            }
+            spans.push((stretch[0].start, stretch[stretch.len() - 1].end));
+        } else {
+            spans.extend(stretch.iter().map(|p| (p.start, p.end)));
+        }
+        i = j + 1;
+    }
+    let Some(longest) = (0..spans.len()).max_by_key(|&k| spans[k].1 - spans[k].0) else {
+        return Track::default();
+    };
+    let mut runs: Vec<Run> = spans
+        .iter()
+        .enumerate()
+        .map(|(k, &(start, end))| Run {
+            start,
+            xyz: if k == longest {
+                Vec::new()
+            } else {
+                samples[start..end].to_vec()
+            },
+        })
+        .collect();
+    let (start, end) = spans[longest];
+    samples.copy_within(start..end, 0);
+    samples.truncate(end - start);
+    runs[longest].xyz = samples;
+    Track { runs }
+}
+
+fn present_runs_flat(samples: &[[f64; 3]], n_frames: usize) -> Vec<Present> {
+    let mut runs = Vec::new();
+    let mut start = None;
+    let known = |f: usize| {
+        samples
+            .get(f)
+            .is_some_and(|p| p.iter().all(|c| c.is_finite()))
+    };
+    for frame in 0..n_frames {
+        match (known(frame), start) {
+            (true, None) => start = Some(frame),
+            (false, Some(s)) => {
+                runs.push(Present {
+                    start: s,
+                    end: frame,
+                });
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    if let Some(s) = start {
+        runs.push(Present {
+            start: s,
+            end: n_frames,
+        });
+    }
+    runs
 }
 
 /// One [`Warning::FilledGap`] per filled gap: the marker label, the time of the first filled
@@ -313,6 +461,67 @@ mod tests {
             tracks: vec![track],
         };
         (raw, t)
+    }
+
+    #[test]
+    fn flat_tracks_fill_as_optional_tracks_do() {
+        // Trial-end gaps, short and long interior gaps, a lone sample, a NaN coordinate, an
+        // empty track, a short track, repeated times (no spline): each as fill_gaps fills it.
+        let n = 60;
+        let mut times = times(n);
+        let pattern = |k: usize| -> Vec<Option<[f64; 3]>> {
+            (0..n)
+                .map(|f| {
+                    let t = f as f64 / RATE_HZ;
+                    let missing = match k {
+                        0 => f < 3 || (10..14).contains(&f) || (30..50).contains(&f) || f == 55,
+                        1 => f % 7 == 3 || f > 57,
+                        2 => f != 20,
+                        3 => true,
+                        _ => (5..8).contains(&f),
+                    };
+                    let mut p = cubic(t + k as f64);
+                    if k == 1 && f == 12 {
+                        p[1] = f64::NAN;
+                    }
+                    (!missing).then_some(p)
+                })
+                .collect()
+        };
+        let mut tracks: Vec<Vec<Option<[f64; 3]>>> = (0..5).map(pattern).collect();
+        tracks[4].truncate(40);
+        let labels: Vec<String> = (0..5).map(|k| format!("m{k}")).collect();
+        for repeated_time in [false, true] {
+            if repeated_time {
+                times[25] = times[24];
+            }
+            let raw = RawMarkers {
+                labels: labels.clone(),
+                tracks: tracks.clone(),
+            };
+            let flat: Vec<Vec<[f64; 3]>> = tracks
+                .iter()
+                .map(|t| t.iter().map(|p| p.unwrap_or([f64::NAN; 3])).collect())
+                .collect();
+            let c = crate::signal::design(RATE_HZ, 6.0, true).unwrap();
+            for threads in [1, 2, 3] {
+                let (mut want, want_gaps) = fill_gaps(&raw, &times, 0.1);
+                crate::signal::low_pass_on(&mut want, RATE_HZ, 6.0, threads).unwrap();
+                let (got, gaps) = fill_flat(
+                    labels.clone(),
+                    flat.clone(),
+                    &times,
+                    0.1,
+                    Some((&c, c.pad_len())),
+                    threads,
+                );
+                assert_eq!(
+                    got, want,
+                    "{threads} threads, repeated time {repeated_time}"
+                );
+                assert_eq!(gaps, want_gaps);
+            }
+        }
     }
 
     #[test]

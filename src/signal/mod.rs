@@ -58,6 +58,27 @@ pub(crate) fn in_groups<T: Send, U: Send>(
     })
 }
 
+/// `(a(), b())`, with `a` on a thread of its own when `threads > 1`.
+pub(crate) fn both<A: Send, B>(
+    threads: usize,
+    a: impl FnOnce() -> A + Send,
+    b: impl FnOnce() -> B,
+) -> (A, B) {
+    if threads <= 1 {
+        let a = a();
+        return (a, b());
+    }
+    std::thread::scope(|s| {
+        let a = s.spawn(a);
+        let b = b();
+        match a.join() {
+            Ok(a) => (a, b),
+            // A panic in `a` is a bug: pass it on.
+            Err(panic) => std::panic::resume_unwind(panic),
+        }
+    })
+}
+
 /// Errors of the signal stage.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum SignalError {

@@ -163,14 +163,17 @@ pub fn percentile(values: impl Iterator<Item = f64>, percentile: f64) -> Option<
     if !(0.0..=100.0).contains(&percentile) {
         return None;
     }
-    let mut x: Vec<f64> = values.filter(|h| h.is_finite()).collect();
+    let x: Vec<f64> = values.filter(|h| h.is_finite()).collect();
     if x.is_empty() {
         return None;
     }
     let r = percentile / 100.0 * (x.len() - 1) as f64;
     let lo = (r.floor() as usize).min(x.len() - 1);
     let frac = r - r.floor();
-    // The order statistics `lo` and `lo + 1` (a selection, not a full sort).
+    // The order statistics `lo` and `lo + 1` (a selection, not a full sort), among the values
+    // up to a bound taken from a sample when those are enough to hold both (the same values,
+    // found in a fraction of the heights), else among all.
+    let mut x = lowest_at_least(x, lo + 2);
     let (_, &mut below, rest) = x.select_nth_unstable_by(lo, f64::total_cmp);
     let above = rest.iter().copied().min_by(f64::total_cmp);
     Some(match above {
@@ -179,9 +182,77 @@ pub fn percentile(values: impl Iterator<Item = f64>, percentile: f64) -> Option<
     })
 }
 
+/// The values of `x` up to a bound, when at least `k` of them are (then they hold the `k`
+/// smallest values of `x`, ties included, and the same order statistics below `k`); `x` itself
+/// otherwise. The bound is an order statistic of every 64th value, a little above the share
+/// `k / n` (the sample's quantile varies by about its own square root).
+fn lowest_at_least(x: Vec<f64>, k: usize) -> Vec<f64> {
+    const STRIDE: usize = 64;
+    let n = x.len();
+    if n < 64 * STRIDE || 4 * k > n {
+        return x;
+    }
+    let mut sample: Vec<f64> = x.iter().copied().step_by(STRIDE).collect();
+    let expected = k * sample.len() / n;
+    let rank = (expected + 4 * (expected as f64).sqrt() as usize + 8).min(sample.len() - 1);
+    let (_, &mut bound, _) = sample.select_nth_unstable_by(rank, f64::total_cmp);
+    let low: Vec<f64> = x
+        .iter()
+        .copied()
+        .filter(|v| v.total_cmp(&bound).is_le())
+        .collect();
+    if low.len() >= k {
+        low
+    } else {
+        x
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn floor_from_the_lowest_values_equals_floor_from_all() {
+        // xorshift64 (Marsaglia 2003): heights with ties and a heavy low tail (synthetic).
+        let mut s = 0x9e37_79b9_7f4a_7c15u64;
+        let mut next = || {
+            s ^= s << 13;
+            s ^= s >> 7;
+            s ^= s << 17;
+            s
+        };
+        for n in [10, 4095, 5000, 70_000, 300_000] {
+            let x: Vec<f64> = (0..n)
+                .map(|_| {
+                    let u = (next() % 10_000) as f64 / 10_000.0;
+                    if next() % 50 == 0 {
+                        -1.0 - u
+                    } else {
+                        (u * 100.0).round() / 100.0
+                    }
+                })
+                .collect();
+            for percentile in [0.0, 0.1, 2.0, 2.5, 20.0, 50.0, 100.0] {
+                let r = percentile / 100.0 * (n - 1) as f64;
+                let lo = r.floor() as usize;
+                let mut sorted = x.clone();
+                sorted.sort_by(f64::total_cmp);
+                let want = match sorted.get(lo + 1) {
+                    Some(&above) if r > r.floor() => {
+                        sorted[lo] + (r - r.floor()) * (above - sorted[lo])
+                    }
+                    _ => sorted[lo],
+                };
+                let got = floor_level(x.iter().copied(), percentile).unwrap();
+                assert_eq!(
+                    got.to_bits(),
+                    want.to_bits(),
+                    "n {n}, percentile {percentile}"
+                );
+            }
+        }
+    }
 
     #[test]
     fn a_short_gap_holding_a_missing_frame_is_not_filled() {

@@ -157,15 +157,20 @@ fn find_peaks(y: &[Option<f64>], rate_hz: f64, options: &ZeniOptions) -> Vec<usi
         let height = |k: usize| y[peaks[k]].unwrap_or(f64::NEG_INFINITY);
         order.sort_by(|&a, &b| height(b).total_cmp(&height(a)).then(a.cmp(&b)));
         let mut keep = vec![true; peaks.len()];
+        // Peaks are in frame order and the distance grows with the frame difference: the peaks
+        // too close to peak k are the neighbours on each side up to the first far enough.
+        let close = |j: usize, k: usize| {
+            (peaks[j].abs_diff(peaks[k]) as f64 / rate_hz) < options.min_peak_distance_s
+        };
         for &k in &order {
             if !keep[k] {
                 continue;
             }
-            for (j, kept) in keep.iter_mut().enumerate() {
-                let apart_s = peaks[j].abs_diff(peaks[k]) as f64 / rate_hz;
-                if j != k && apart_s < options.min_peak_distance_s {
-                    *kept = false;
-                }
+            for j in (0..k).rev().take_while(|&j| close(j, k)) {
+                keep[j] = false;
+            }
+            for j in (k + 1..peaks.len()).take_while(|&j| close(j, k)) {
+                keep[j] = false;
             }
         }
         let mut k = 0;

@@ -241,87 +241,94 @@ pub fn analyse(
     rate_hz: f64,
     config: &SupportConfig,
 ) -> SupportSeries {
+    analyse_on(
+        foot, com, velocity, xcom, floor, up, times_s, rate_hz, config, 1,
+    )
+}
+
+/// Frames per range of the per-frame BoS work shared among threads.
+const FRAMES_PER_RANGE_MIN: usize = 4096;
+
+/// [`analyse`] with the two feet, then ranges of frames, shared among up to `threads` threads;
+/// the result does not depend on how many.
+#[allow(clippy::too_many_arguments)]
+pub fn analyse_on(
+    foot: &FootFrames,
+    com: &[Option<[f64; 3]>],
+    velocity: &[Option<[f64; 3]>],
+    xcom: &[Option<[f64; 3]>],
+    floor: f64,
+    up: UpAxis,
+    times_s: &[f64],
+    rate_hz: f64,
+    config: &SupportConfig,
+    threads: usize,
+) -> SupportSeries {
     let n = com.len();
     let mut out = SupportSeries {
         floor_m: floor,
         ..Default::default()
     };
     let t = thresholds(config);
-    for side in 0..2 {
-        let mut height = vec![None; n];
-        let mut speed: Vec<Option<f64>> = vec![None; n];
-        for (stem, series) in FOOT_STEMS.iter().zip(&foot.points[side]) {
-            if series.is_empty() {
-                continue;
-            }
-            for (f, p) in series.iter().enumerate() {
-                if let Some(p) = p {
-                    let h = up.height(p) - floor;
-                    height[f] = Some(height[f].map_or(h, |m: f64| m.min(h)));
-                }
-            }
-            // Heel and metatarsal heads decide how slow the foot is (toe and malleolus do not).
-            if matches!(*stem, "heel" | "mt1" | "mt2" | "mt5") {
-                for (f, s) in speed_of(series, rate_hz).into_iter().enumerate() {
-                    if let Some(s) = s {
-                        speed[f] = Some(speed[f].map_or(s, |m: f64| m.min(s)));
-                    }
-                }
-            }
-        }
-        out.contact[side] = detect_contact(&height, &speed, rate_hz, &t);
-        out.contact[side].resize(n, false);
+    let sides = crate::signal::in_groups(vec![0, 1], threads, |group| {
+        group
+            .into_iter()
+            .map(|side| {
+                let mut contact = foot_contact(foot, side, n, floor, up, rate_hz, &t);
+                contact.resize(n, false);
+                contact
+            })
+            .collect::<Vec<_>>()
+    });
+    for (side, contact) in sides.into_iter().flatten().enumerate() {
+        out.contact[side] = contact;
     }
     out.progression = progression(foot, velocity, up);
-    let ml = out.progression.map(|[x, y]| [-y, x]);
+    let static_trial = mean_speed(velocity, up) < STATIC_SPEED_M_S;
 
-    out.bos_area_m2.reserve(n);
+    // Frames are independent: ranges of them run at once, each into its part of the series.
+    let n_ranges = threads.clamp(1, (n / FRAMES_PER_RANGE_MIN).max(1));
+    let ranges: Vec<(usize, usize)> = (0..n_ranges)
+        .map(|k| (n * k / n_ranges, n * (k + 1) / n_ranges))
+        .collect();
+    let parts = crate::signal::in_groups(ranges, n_ranges, |group| {
+        group
+            .into_iter()
+            .map(|(from, to)| bos_frames(&out, foot, com, xcom, up, from, to))
+            .collect::<Vec<_>>()
+    });
+    let mut nonempty = Vec::with_capacity(n);
+    for part in parts.into_iter().flatten() {
+        out.bos_area_m2.extend(part.bos_area_m2);
+        out.bos_margin_m.extend(part.bos_margin_m);
+        out.mos_m.extend(part.mos_m);
+        out.mos_ap_m.extend(part.mos_ap_m);
+        out.mos_ml_m.extend(part.mos_ml_m);
+        nonempty.extend(part.nonempty);
+    }
+
+    // Footprints at each contact onset; outlines at contact changes (and every second of a
+    // static trial), where the hull is not empty.
     let mut previous = [false, false];
     let mut last_outline: Option<usize> = None;
-    let static_trial = mean_speed(velocity, up) < STATIC_SPEED_M_S;
     let mut pts: Vec<[f64; 2]> = Vec::with_capacity(12);
-    for f in 0..n {
-        pts.clear();
+    for (f, &has_hull) in nonempty.iter().enumerate() {
         let now = [out.contact[0][f], out.contact[1][f]];
         for side in 0..2 {
-            if now[side] {
-                let before = pts.len();
-                pts.extend(
-                    (0..FOOT_STEMS.len())
-                        .filter_map(|k| foot.at(side, k, f))
-                        .map(|p| up.horizontal(&p)),
-                );
-                if !previous[side] {
-                    out.footprints
-                        .push((side, f, convex_hull(&pts[before..]).vertices()));
-                }
+            if now[side] && !previous[side] {
+                pts.clear();
+                push_foot(&mut pts, foot, side, f, up);
+                out.footprints.push((side, f, convex_hull(&pts).vertices()));
             }
         }
-        let hull = convex_hull(&pts);
         let changed = now != previous;
         let due = static_trial && last_outline.is_none_or(|l| f >= l + rate_hz.round() as usize);
-        if !hull.is_empty() && (changed || due) {
-            out.outlines.push((f, hull.vertices()));
+        if has_hull && (changed || due) {
+            out.outlines
+                .push((f, bos_hull(&mut pts, foot, now, f, up).vertices()));
             last_outline = Some(f);
         }
         previous = now;
-        out.bos_area_m2.push(hull.area_m2());
-        let c = com.get(f).copied().flatten().map(|c| up.horizontal(&c));
-        out.bos_margin_m
-            .push(c.and_then(|c| signed_distance(&hull, c)));
-        let xi = xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
-        out.mos_m.push(xi.and_then(|x| signed_distance(&hull, x)));
-        let along =
-            |d: Option<[f64; 2]>| xi.zip(d).and_then(|(x, d)| directional_margin(&hull, x, d));
-        out.mos_ap_m.push(along(out.progression).map(|m| m.ahead_m));
-        // ML: in single stance the margin to the stance foot's lateral edge (outward along the
-        // stance side, Hof 2005 / methods.md 2); in double stance the nearer lateral edge.
-        let ml_margin = match now {
-            [true, false] => along(ml).map(|m| m.ahead_m),
-            [false, true] => along(ml).map(|m| m.behind_m),
-            _ => along(ml).map(|m| m.nearer_m()),
-        };
-        out.mos_ml_m.push(ml_margin);
     }
     if !foot.has_feet() {
         out.warnings.push(Warning::Approximation {
@@ -335,11 +342,137 @@ pub fn analyse(
                 walking_speed_m_s: mean_speed(velocity, up),
             };
             gait(
-                &mut out, foot, com, xcom, up, times_s, rate_hz, prog, events,
+                &mut out, foot, com, xcom, up, times_s, rate_hz, prog, events, threads,
             );
         }
     }
     out
+}
+
+/// Contact of one foot, frame by frame (module doc).
+fn foot_contact(
+    foot: &FootFrames,
+    side: usize,
+    n: usize,
+    floor: f64,
+    up: UpAxis,
+    rate_hz: f64,
+    t: &ContactThresholds,
+) -> Vec<bool> {
+    let dt = 1.0 / rate_hz;
+    let mut height = vec![None; n];
+    let mut speed: Vec<Option<f64>> = vec![None; n];
+    let mut velocity = Vec::new();
+    for (stem, series) in FOOT_STEMS.iter().zip(&foot.points[side]) {
+        if series.is_empty() {
+            continue;
+        }
+        for (f, p) in series.iter().enumerate() {
+            if let Some(p) = p {
+                let h = up.height(p) - floor;
+                if let Some(slot) = height.get_mut(f) {
+                    *slot = Some(slot.map_or(h, |m: f64| m.min(h)));
+                }
+            }
+        }
+        // Heel and metatarsal heads decide how slow the foot is (toe and malleolus do not).
+        if matches!(*stem, "heel" | "mt1" | "mt2" | "mt5") {
+            derivative::velocity_into(series, dt, &mut velocity);
+            for (f, v) in velocity.iter().enumerate() {
+                if let Some(v) = v {
+                    let s = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+                    if let Some(slot) = speed.get_mut(f) {
+                        *slot = Some(slot.map_or(s, |m: f64| m.min(s)));
+                    }
+                }
+            }
+        }
+    }
+    detect_contact(&height, &speed, rate_hz, t)
+}
+
+/// The foot points of `side` at frame `f`, in the floor plane, appended to `pts`.
+fn push_foot(pts: &mut Vec<[f64; 2]>, foot: &FootFrames, side: usize, f: usize, up: UpAxis) {
+    pts.extend(
+        (0..FOOT_STEMS.len())
+            .filter_map(|k| foot.at(side, k, f))
+            .map(|p| up.horizontal(&p)),
+    );
+}
+
+/// The BoS at frame `f`: the hull of the feet in contact (`now`); `pts` is scratch space.
+fn bos_hull(
+    pts: &mut Vec<[f64; 2]>,
+    foot: &FootFrames,
+    now: [bool; 2],
+    f: usize,
+    up: UpAxis,
+) -> super::Hull {
+    pts.clear();
+    for (side, &on) in now.iter().enumerate() {
+        if on {
+            push_foot(pts, foot, side, f, up);
+        }
+    }
+    convex_hull(pts)
+}
+
+/// The per-frame series of the BoS over frames `from .. to`.
+#[derive(Default)]
+struct BosFrames {
+    bos_area_m2: Vec<Option<f64>>,
+    bos_margin_m: Vec<Option<f64>>,
+    mos_m: Vec<Option<f64>>,
+    mos_ap_m: Vec<Option<f64>>,
+    mos_ml_m: Vec<Option<f64>>,
+    /// Whether the BoS is not empty.
+    nonempty: Vec<bool>,
+}
+
+/// BoS area and margins over frames `from .. to` (contact and progression are in `out`).
+fn bos_frames(
+    out: &SupportSeries,
+    foot: &FootFrames,
+    com: &[Option<[f64; 3]>],
+    xcom: &[Option<[f64; 3]>],
+    up: UpAxis,
+    from: usize,
+    to: usize,
+) -> BosFrames {
+    let len = to - from;
+    let mut b = BosFrames {
+        bos_area_m2: Vec::with_capacity(len),
+        bos_margin_m: Vec::with_capacity(len),
+        mos_m: Vec::with_capacity(len),
+        mos_ap_m: Vec::with_capacity(len),
+        mos_ml_m: Vec::with_capacity(len),
+        nonempty: Vec::with_capacity(len),
+    };
+    let ml = out.progression.map(|[x, y]| [-y, x]);
+    let mut pts: Vec<[f64; 2]> = Vec::with_capacity(12);
+    for f in from..to {
+        let now = [out.contact[0][f], out.contact[1][f]];
+        let hull = bos_hull(&mut pts, foot, now, f, up);
+        b.nonempty.push(!hull.is_empty());
+        b.bos_area_m2.push(hull.area_m2());
+        let c = com.get(f).copied().flatten().map(|c| up.horizontal(&c));
+        b.bos_margin_m
+            .push(c.and_then(|c| signed_distance(&hull, c)));
+        let xi = xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
+        b.mos_m.push(xi.and_then(|x| signed_distance(&hull, x)));
+        let along =
+            |d: Option<[f64; 2]>| xi.zip(d).and_then(|(x, d)| directional_margin(&hull, x, d));
+        b.mos_ap_m.push(along(out.progression).map(|m| m.ahead_m));
+        // ML: in single stance the margin to the stance foot's lateral edge (outward along the
+        // stance side, Hof 2005 / methods.md 2); in double stance the nearer lateral edge.
+        let ml_margin = match now {
+            [true, false] => along(ml).map(|m| m.ahead_m),
+            [false, true] => along(ml).map(|m| m.behind_m),
+            _ => along(ml).map(|m| m.nearer_m()),
+        };
+        b.mos_ml_m.push(ml_margin);
+    }
+    b
 }
 
 fn mean_speed(velocity: &[Option<[f64; 3]>], up: UpAxis) -> f64 {
@@ -403,10 +536,17 @@ struct Events {
 
 /// 3-D speed per frame of one foot point, m/s, `None` where unknown.
 fn speed_of(series: &[Option<[f64; 3]>], rate_hz: f64) -> Vec<Option<f64>> {
-    let (v, _) = derivative::of_series(series, 1.0 / rate_hz);
-    v.iter()
+    let mut velocity = Vec::new();
+    derivative::velocity_into(series, 1.0 / rate_hz, &mut velocity);
+    velocity
+        .iter()
         .map(|v| v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()))
         .collect()
+}
+
+/// The first of the frames `sorted` (in increasing order, as events are) after `f`.
+fn first_after(sorted: &[usize], f: usize) -> Option<usize> {
+    sorted.get(sorted.partition_point(|&t| t <= f)).copied()
 }
 
 /// Gait events and steps (module doc).
@@ -421,6 +561,7 @@ fn gait(
     rate_hz: f64,
     prog: [f64; 2],
     events: Events,
+    threads: usize,
 ) {
     let n = com.len();
     let along = |side: usize, k: usize| -> Vec<Option<f64>> {
@@ -432,26 +573,41 @@ fn gait(
             })
             .collect()
     };
-    for side in 0..2 {
-        let toe = if foot.points[side][TOE].is_empty() {
+    let toe = |side: usize| {
+        if foot.points[side][TOE].is_empty() {
             MT2
         } else {
             TOE
-        };
-        if foot.points[side][HEEL].is_empty() || foot.points[side][toe].is_empty() {
-            return;
         }
-        let zeni = zeni_events(&along(side, HEEL), &along(side, toe), rate_hz);
-        out.events[side] = match events.method {
-            GaitEventMethod::Zeni => zeni,
-            GaitEventMethod::ZeniBonci => refine_events(
-                &zeni,
-                &speed_of(&foot.points[side][HEEL], rate_hz),
-                &speed_of(&foot.points[side][toe], rate_hz),
-                events.walking_speed_m_s,
-                &RefineOptions::default(),
-            ),
-        };
+    };
+    // Events of the left foot when it has a heel and toe, then of the right when both have.
+    let has = |side: usize| {
+        !(foot.points[side][HEEL].is_empty() || foot.points[side][toe(side)].is_empty())
+    };
+    let sides: Vec<usize> = (0..2).take_while(|&side| has(side)).collect();
+    let found = crate::signal::in_groups(sides.clone(), threads, |group| {
+        group
+            .into_iter()
+            .map(|side| {
+                let zeni = zeni_events(&along(side, HEEL), &along(side, toe(side)), rate_hz);
+                match events.method {
+                    GaitEventMethod::Zeni => zeni,
+                    GaitEventMethod::ZeniBonci => refine_events(
+                        &zeni,
+                        &speed_of(&foot.points[side][HEEL], rate_hz),
+                        &speed_of(&foot.points[side][toe(side)], rate_hz),
+                        events.walking_speed_m_s,
+                        &RefineOptions::default(),
+                    ),
+                }
+            })
+            .collect::<Vec<_>>()
+    });
+    for (&side, e) in sides.iter().zip(found.into_iter().flatten()) {
+        out.events[side] = e;
+    }
+    if sides.len() < 2 {
+        return;
     }
     let ml = [-prog[1], prog[0]];
     let xcom_h = |f: usize| xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
@@ -466,16 +622,10 @@ fn gait(
             let d = heel
                 .zip(other_heel)
                 .map(|(a, b)| [a[0] - b[0], a[1] - b[1]]);
-            let toe_off = out.events[side].toe_offs.iter().copied().find(|&t| t > f);
+            let toe_off = first_after(&out.events[side].toe_offs, f);
             // Single stance on `side`: from the other foot's toe-off to its next heel strike.
-            let other_to = out.events[other].toe_offs.iter().copied().find(|&t| t > f);
-            let other_hs = other_to.and_then(|t0| {
-                out.events[other]
-                    .heel_strikes
-                    .iter()
-                    .copied()
-                    .find(|&h| h > t0)
-            });
+            let other_to = first_after(&out.events[other].toe_offs, f);
+            let other_hs = other_to.and_then(|t0| first_after(&out.events[other].heel_strikes, t0));
             let min_ml = match (other_to, other_hs) {
                 (Some(a), Some(b)) => out.mos_ml_m[a..b.min(n)]
                     .iter()

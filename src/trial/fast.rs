@@ -8,15 +8,17 @@
 //!   numbers accurately", the fast path). Any other text goes to `str::parse`.
 //! - [`read_wide`]: a wide file without quote characters, whose lines end in `\n` or `\r\n`, has
 //!   one record per line and one cell between commas, so its data lines can be cut into ranges
-//!   and parsed on several threads into tracks allocated once. Each row is read as the general
-//!   reader reads it (clock, then coordinates in metres, `None` when any of the three is
-//!   missing). Anything unusual (a quote, a lone `\r`, a ragged row, a bad cell, times not
+//!   and parsed on several threads into flat tracks allocated once (`[f64; 3]` per frame, NaN
+//!   where a coordinate is missing: zeroed memory that each thread touches first in its own
+//!   range, and the layout gap filling takes over in place). Each row is read as the general
+//!   reader reads it (clock, then coordinates in metres; a point with a missing coordinate is
+//!   what the general reader reads as `None`). Anything unusual (a quote, a lone `\r`, a ragged row, a bad cell, times not
 //!   increasing, a tidy or frame-numbered file without rate) makes it step aside, and the
 //!   general reader reads the file and reports the problem with its position.
 
 use super::{
-    finish, parse_cell, parse_header, skip_prelude, Clock, Header, Layout, ReadOptions, Rows,
-    Trial, TrialError,
+    finish, parse_cell, parse_header, skip_prelude, Clock, FlatTrial, Header, Layout, ReadOptions,
+    Rows, TrialError,
 };
 use csv::ByteRecord;
 
@@ -75,7 +77,7 @@ pub(super) fn read_wide(
     stem: &str,
     opts: &ReadOptions,
     threads: usize,
-) -> Option<Result<Trial, TrialError>> {
+) -> Option<Result<FlatTrial, TrialError>> {
     read_wide_in_pieces(bytes, file, stem, opts, threads, MIN_PIECE_BYTES)
 }
 
@@ -87,7 +89,7 @@ fn read_wide_in_pieces(
     opts: &ReadOptions,
     threads: usize,
     min_piece_bytes: usize,
-) -> Option<Result<Trial, TrialError>> {
+) -> Option<Result<FlatTrial, TrialError>> {
     if opts.rate_hz.is_some_and(|r| !(r.is_finite() && r > 0.0)) {
         return None;
     }
@@ -121,9 +123,9 @@ fn read_wide_in_pieces(
         clock,
         lines,
         labels: labels.clone(),
-        tracks,
+        tracks: Vec::new(),
     };
-    Some(finish(rows, header, file, stem, opts))
+    Some(finish(rows, header, file, stem, opts).map(|trial| FlatTrial { trial, tracks }))
 }
 
 /// What a cell of a data row is for.
@@ -165,7 +167,7 @@ impl RowLayout {
     }
 }
 
-type Track = Vec<Option<[f64; 3]>>;
+type Track = Vec<[f64; 3]>;
 
 /// One line range of the data and where its results go.
 struct Piece<'a> {
@@ -173,7 +175,30 @@ struct Piece<'a> {
     first_line: u64,
     clock: &'a mut [f64],
     lines: &'a mut [u64],
-    tracks: Vec<&'a mut [Option<[f64; 3]>]>,
+    tracks: Vec<&'a mut [[f64; 3]]>,
+}
+
+/// What a first look at one line range finds: its line feeds, and whether it holds anything
+/// that makes the fast path step aside (a quote, a lone `\r`). One pass counts the three bytes
+/// (the loop vectorises); only a range with a `\r` is looked at again.
+fn scan(text: &[u8]) -> Option<usize> {
+    let (mut feeds, mut quotes, mut returns) = (0usize, 0usize, 0usize);
+    // Byte counters over blocks of 255 bytes cannot overflow.
+    for block in text.chunks(255) {
+        let (mut f, mut q, mut r) = (0u8, 0u8, 0u8);
+        for &b in block {
+            f += u8::from(b == b'\n');
+            q += u8::from(b == b'"');
+            r += u8::from(b == b'\r');
+        }
+        feeds += f as usize;
+        quotes += q as usize;
+        returns += r as usize;
+    }
+    if quotes > 0 || (returns > 0 && has_lone_cr(text)) {
+        return None;
+    }
+    Some(feeds)
 }
 
 /// Clock values, line numbers and tracks of the data lines, or `None` (module doc).
@@ -184,11 +209,14 @@ fn parse_rows(
     threads: usize,
     min_piece_bytes: usize,
 ) -> Option<(Vec<f64>, Vec<u64>, Vec<Track>)> {
-    if data.contains(&b'"') || has_lone_cr(data) {
-        return None;
-    }
     let texts = split_lines(data, threads, min_piece_bytes);
-    let newlines: Vec<usize> = texts.iter().map(|t| count_newlines(t)).collect();
+    // Each range ends in `\n` (but the last), so a lone `\r` is lone within its range.
+    let newlines: Vec<usize> = crate::signal::in_groups(texts.clone(), texts.len(), |group| {
+        group.into_iter().map(scan).collect::<Option<Vec<usize>>>()
+    })
+    .into_iter()
+    .collect::<Option<Vec<Vec<usize>>>>()?
+    .concat();
     // Lines per piece: its line feeds, and a last line without one.
     let counts: Vec<usize> = texts
         .iter()
@@ -198,12 +226,16 @@ fn parse_rows(
     let total: usize = counts.iter().sum();
     let mut clock = vec![0.0; total];
     let mut lines = vec![0u64; total];
-    let mut tracks: Vec<Track> = vec![vec![None; total]; layout.n_markers];
+    // Zeroed allocations: no page is touched here, each is first written by the thread that
+    // parses its range.
+    let mut tracks: Vec<Track> = (0..layout.n_markers)
+        .map(|_| vec![[0.0; 3]; total])
+        .collect();
 
     let mut pieces = Vec::with_capacity(texts.len());
     {
         let (mut clock_rest, mut lines_rest) = (clock.as_mut_slice(), lines.as_mut_slice());
-        let mut track_rests: Vec<&mut [Option<[f64; 3]>]> =
+        let mut track_rests: Vec<&mut [[f64; 3]]> =
             tracks.iter_mut().map(Vec::as_mut_slice).collect();
         let mut line = first_line;
         for ((text, &n), &feeds) in texts.iter().zip(&counts).zip(&newlines) {
@@ -314,16 +346,12 @@ fn parse_piece(piece: Piece, layout: &RowLayout) -> Option<usize> {
         *clock.get_mut(row)? = time;
         *lines.get_mut(row)? = this_line;
         for (track, p) in tracks.iter_mut().zip(values.chunks_exact(3)) {
-            let point = if p.iter().any(|v| v.is_nan()) {
-                None
-            } else {
-                Some([
-                    p[0] * layout.scale,
-                    p[1] * layout.scale,
-                    p[2] * layout.scale,
-                ])
-            };
-            *track.get_mut(row)? = point;
+            // A missing coordinate stays NaN (NaN times the scale).
+            *track.get_mut(row)? = [
+                p[0] * layout.scale,
+                p[1] * layout.scale,
+                p[2] * layout.scale,
+            ];
         }
         row += 1;
     }
@@ -454,10 +482,6 @@ fn split_lines(data: &[u8], threads: usize, min_piece_bytes: usize) -> Vec<&[u8]
     pieces
 }
 
-fn count_newlines(text: &[u8]) -> usize {
-    text.iter().filter(|&&b| b == b'\n').count()
-}
-
 /// Whether a `\r` stands anywhere but just before a `\n` (the csv reader ends records there,
 /// but the line count does not move).
 fn has_lone_cr(data: &[u8]) -> bool {
@@ -472,6 +496,7 @@ fn has_lone_cr(data: &[u8]) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::trial::Trial;
 
     fn std_parse(text: &str) -> Option<f64> {
         text.parse().ok()
@@ -576,7 +601,7 @@ mod tests {
         threads: usize,
     ) -> Option<Result<Trial, String>> {
         read_wide_in_pieces(bytes, "t.csv", "t", opts, threads, 1)
-            .map(|r| r.map_err(|e| e.to_string()))
+            .map(|r| r.map(FlatTrial::into_trial).map_err(|e| e.to_string()))
     }
 
     #[test]
