@@ -49,6 +49,8 @@ pub struct ModelInfo {
     /// Pendulum length of the XCoM and its eigenfrequency sqrt(g / l).
     pub xcom_length_m: Option<f64>,
     pub omega0_rad_s: Option<f64>,
+    /// How the gait events of walking trials are found.
+    pub gait_events: crate::config::GaitEventMethod,
 }
 
 /// Everything computed for one trial, frame by frame.
@@ -434,6 +436,7 @@ fn run_filled(
         leg_length_m: body.leg_length_m,
         xcom_length_m,
         omega0_rad_s: omega0,
+        gait_events: config.support.gait_events,
     };
     let result = TrialResult {
         name: trial.name.clone(),
