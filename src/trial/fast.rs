@@ -573,6 +573,58 @@ mod tests {
     }
 
     #[test]
+    fn cells_are_read_as_decimal_reads_them() {
+        // xorshift64 (Marsaglia 2003): cells of 0 to 25 digits with a point and a sign, closed
+        // by a comma, a line end, the end of the text, or a byte that is not a closer.
+        let mut s = 0x853c_49e6_748f_ea9bu64;
+        let mut next = || {
+            s ^= s << 13;
+            s ^= s >> 7;
+            s ^= s << 17;
+            s
+        };
+        for _ in 0..200_000 {
+            let mut cell = String::new();
+            if next() % 3 == 0 {
+                cell.push('-');
+            }
+            let n_int = (next() % 14) as usize;
+            let n_frac = (next() % 12) as usize;
+            for _ in 0..n_int {
+                cell.push(char::from(b'0' + (next() % 10) as u8));
+            }
+            if next() % 4 != 0 {
+                cell.push('.');
+                for _ in 0..n_frac {
+                    cell.push(char::from(b'0' + (next() % 10) as u8));
+                }
+            }
+            let closer = [",", "\n", "\r\n", "", "x", "/", ":"][(next() % 7) as usize];
+            let pad = (next() % 9) as usize;
+            // Digits after the closer, but for a cell that ends the text.
+            let after = if closer.is_empty() {
+                0
+            } else {
+                (next() % 3) as usize
+            };
+            let text = format!("{}{cell}{closer}{}", ",".repeat(pad), "9".repeat(after));
+            let got = number(text.as_bytes(), pad);
+            let closes = matches!(closer, "," | "\n" | "\r\n") || text.len() == pad + cell.len();
+            let want = if closes {
+                decimal(cell.as_bytes())
+            } else {
+                None
+            };
+            // `decimal` also takes a leading `+`, which a cell here never has.
+            assert_eq!(
+                got.map(|(v, end)| (v.to_bits(), end)),
+                want.map(|v| (v.to_bits(), pad + cell.len())),
+                "{text:?}"
+            );
+        }
+    }
+
+    #[test]
     fn lines_are_split_after_line_feeds() {
         let data = vec![b'a'; 3 * MIN_PIECE_BYTES]
             .into_iter()
