@@ -188,33 +188,23 @@ fn fill_flat_track(
     let present = present_runs_flat(&samples, n);
     // The frames of each run to be, `start .. end`, in order.
     let mut spans = Vec::with_capacity(present.len());
-    let mut i = 0;
-    while i < present.len() {
-        let mut j = i;
-        while j + 1 < present.len() && is_fillable(present[j], present[j + 1], times_s, max_gap_s) {
-            j += 1;
-        }
-        let stretch = &present[i..=j];
+    for stretch in stretches(&present, times_s, max_gap_s) {
         let points = stretch
             .iter()
             .flat_map(|p| p.start..p.end)
             .map(|f| (times_s[f], samples[f]));
         if stretch.len() > 1 && spline.refit(points) {
-            for w in stretch.windows(2) {
-                for f in w[0].end..w[1].start {
+            for gap in gaps_of(marker, stretch) {
+                let frames = gap.start_frame..gap.start_frame + gap.len_frames;
+                for f in frames {
                     samples[f] = spline.eval(times_s[f]);
                 }
-                filled.push(FilledGap {
-                    marker,
-                    start_frame: w[0].end,
-                    len_frames: w[1].start - w[0].end,
-                });
+                filled.push(gap);
             }
             spans.push((stretch[0].start, stretch[stretch.len() - 1].end));
         } else {
             spans.extend(stretch.iter().map(|p| (p.start, p.end)));
         }
-        i = j + 1;
     }
     let Some(longest) = (0..spans.len()).max_by_key(|&k| spans[k].1 - spans[k].0) else {
         return Track::default();
@@ -239,33 +229,11 @@ fn fill_flat_track(
 }
 
 fn present_runs_flat(samples: &[[f64; 3]], n_frames: usize) -> Vec<Present> {
-    let mut runs = Vec::new();
-    let mut start = None;
-    let known = |f: usize| {
+    runs_where(n_frames, |f| {
         samples
             .get(f)
             .is_some_and(|p| p.iter().all(|c| c.is_finite()))
-    };
-    for frame in 0..n_frames {
-        match (known(frame), start) {
-            (true, None) => start = Some(frame),
-            (false, Some(s)) => {
-                runs.push(Present {
-                    start: s,
-                    end: frame,
-                });
-                start = None;
-            }
-            _ => {}
-        }
-    }
-    if let Some(s) = start {
-        runs.push(Present {
-            start: s,
-            end: n_frames,
-        });
-    }
-    runs
+    })
 }
 
 /// One [`Warning::FilledGap`] per filled gap: the marker label, the time of the first filled
@@ -310,10 +278,15 @@ fn sample(samples: &[Option<[f64; 3]>], frame: usize) -> Option<[f64; 3]> {
 }
 
 fn present_runs(samples: &[Option<[f64; 3]>], n_frames: usize) -> Vec<Present> {
+    runs_where(n_frames, |f| sample(samples, f).is_some())
+}
+
+/// The maximal runs of frames `0 .. n_frames` where `known` holds.
+fn runs_where(n_frames: usize, known: impl Fn(usize) -> bool) -> Vec<Present> {
     let mut runs = Vec::new();
     let mut start = None;
     for frame in 0..n_frames {
-        match (sample(samples, frame).is_some(), start) {
+        match (known(frame), start) {
             (true, None) => start = Some(frame),
             (false, Some(s)) => {
                 runs.push(Present {
@@ -332,6 +305,37 @@ fn present_runs(samples: &[Option<[f64; 3]>], n_frames: usize) -> Vec<Present> {
         });
     }
     runs
+}
+
+/// The stretches of `present`, in order: maximal groups of consecutive runs joined by gaps
+/// that may be filled ([`is_fillable`]).
+fn stretches<'a>(
+    present: &'a [Present],
+    times_s: &'a [f64],
+    max_gap_s: f64,
+) -> impl Iterator<Item = &'a [Present]> + 'a {
+    let mut i = 0;
+    std::iter::from_fn(move || {
+        if i >= present.len() {
+            return None;
+        }
+        let mut j = i;
+        while j + 1 < present.len() && is_fillable(present[j], present[j + 1], times_s, max_gap_s) {
+            j += 1;
+        }
+        let stretch = &present[i..=j];
+        i = j + 1;
+        Some(stretch)
+    })
+}
+
+/// The gaps between the runs of a filled stretch of `marker`.
+fn gaps_of(marker: usize, stretch: &[Present]) -> impl Iterator<Item = FilledGap> + '_ {
+    stretch.windows(2).map(move |w| FilledGap {
+        marker,
+        start_frame: w[0].end,
+        len_frames: w[1].start - w[0].end,
+    })
 }
 
 /// Whether the interior gap between two present runs may be filled (module doc).
@@ -357,28 +361,14 @@ fn fill_track(
 ) -> Track {
     let present = present_runs(samples, times_s.len());
     let mut runs = Vec::with_capacity(present.len());
-    let mut i = 0;
-    while i < present.len() {
-        // The stretch is present[i ..= j]: runs joined by fillable gaps.
-        let mut j = i;
-        while j + 1 < present.len() && is_fillable(present[j], present[j + 1], times_s, max_gap_s) {
-            j += 1;
-        }
-        let stretch = &present[i..=j];
+    for stretch in stretches(&present, times_s, max_gap_s) {
         match splined_run(stretch, samples, times_s, spline) {
             Some(run) => {
-                for w in stretch.windows(2) {
-                    filled.push(FilledGap {
-                        marker,
-                        start_frame: w[0].end,
-                        len_frames: w[1].start - w[0].end,
-                    });
-                }
+                filled.extend(gaps_of(marker, stretch));
                 runs.push(run);
             }
             None => runs.extend(stretch.iter().map(|p| measured_run(*p, samples))),
         }
-        i = j + 1;
     }
     Track { runs }
 }

@@ -143,6 +143,16 @@ impl FootFrames {
         self.ids.iter().flatten().any(Option::is_some)
     }
 
+    /// The foot point standing for the toe of `side`: the toe, or the 2nd metatarsal head when
+    /// the trial has no toe.
+    fn front(&self, side: usize) -> usize {
+        if self.points[side][TOE].is_empty() {
+            MT2
+        } else {
+            TOE
+        }
+    }
+
     fn at(&self, side: usize, k: usize, frame: usize) -> Option<[f64; 3]> {
         self.points[side][k].get(frame).copied().flatten()
     }
@@ -283,8 +293,10 @@ pub fn analyse_on(
     for (side, contact) in sides.into_iter().flatten().enumerate() {
         out.contact[side] = contact;
     }
-    out.progression = progression(foot, velocity, up);
-    let static_trial = mean_speed(velocity, up) < STATIC_SPEED_M_S;
+    let velocity_sum = horizontal_velocity_sum(velocity, up);
+    let walking_speed_m_s = mean_speed(velocity_sum);
+    out.progression = progression(foot, velocity_sum.0, walking_speed_m_s, up);
+    let static_trial = walking_speed_m_s < STATIC_SPEED_M_S;
 
     // Frames are independent: ranges of them run at once, each into its part of the series.
     let n_ranges = threads.clamp(1, (n / FRAMES_PER_RANGE_MIN).max(1));
@@ -339,7 +351,7 @@ pub fn analyse_on(
         if !static_trial && !foot.sacrum.is_empty() {
             let events = Events {
                 method: config.gait_events,
-                walking_speed_m_s: mean_speed(velocity, up),
+                walking_speed_m_s,
             };
             gait(
                 &mut out, foot, com, xcom, up, times_s, rate_hz, prog, events, threads,
@@ -475,7 +487,8 @@ fn bos_frames(
     b
 }
 
-fn mean_speed(velocity: &[Option<[f64; 3]>], up: UpAxis) -> f64 {
+/// The sum of the horizontal CoM velocities of the frames that have one, and their count.
+fn horizontal_velocity_sum(velocity: &[Option<[f64; 3]>], up: UpAxis) -> ([f64; 2], usize) {
     let (mut sum, mut n) = ([0.0, 0.0], 0usize);
     for v in velocity.iter().flatten() {
         let h = up.horizontal(v);
@@ -483,30 +496,32 @@ fn mean_speed(velocity: &[Option<[f64; 3]>], up: UpAxis) -> f64 {
         sum[1] += h[1];
         n += 1;
     }
+    (sum, n)
+}
+
+/// The speed of the mean horizontal CoM velocity, from [`horizontal_velocity_sum`] (0 without
+/// velocities).
+fn mean_speed((sum, n): ([f64; 2], usize)) -> f64 {
     if n == 0 {
         return 0.0;
     }
     (sum[0] * sum[0] + sum[1] * sum[1]).sqrt() / n as f64
 }
 
-/// Progression direction (module doc).
-fn progression(foot: &FootFrames, velocity: &[Option<[f64; 3]>], up: UpAxis) -> Option<[f64; 2]> {
-    let (mut sum, mut n) = ([0.0, 0.0], 0usize);
-    for v in velocity.iter().flatten() {
-        let h = up.horizontal(v);
-        sum = [sum[0] + h[0], sum[1] + h[1]];
-        n += 1;
-    }
-    if n > 0 && (sum[0] * sum[0] + sum[1] * sum[1]).sqrt() / n as f64 >= STATIC_SPEED_M_S {
-        return unit(sum);
+/// Progression direction (module doc): along the summed horizontal CoM velocity `velocity_sum`
+/// when the mean speed is at least [`STATIC_SPEED_M_S`], else from the feet.
+fn progression(
+    foot: &FootFrames,
+    velocity_sum: [f64; 2],
+    mean_speed_m_s: f64,
+    up: UpAxis,
+) -> Option<[f64; 2]> {
+    if mean_speed_m_s >= STATIC_SPEED_M_S {
+        return unit(velocity_sum);
     }
     let mut dir = [0.0, 0.0];
     for side in 0..2 {
-        let front = if foot.points[side][TOE].is_empty() {
-            MT2
-        } else {
-            TOE
-        };
+        let front = foot.front(side);
         for f in 0..foot.points[side][HEEL].len() {
             if let (Some(h), Some(t)) = (foot.at(side, HEEL, f), foot.at(side, front, f)) {
                 let (h, t) = (up.horizontal(&h), up.horizontal(&t));
@@ -573,13 +588,7 @@ fn gait(
             })
             .collect()
     };
-    let toe = |side: usize| {
-        if foot.points[side][TOE].is_empty() {
-            MT2
-        } else {
-            TOE
-        }
-    };
+    let toe = |side: usize| foot.front(side);
     // Events of the left foot when it has a heel and toe, then of the right when both have.
     let has = |side: usize| {
         !(foot.points[side][HEEL].is_empty() || foot.points[side][toe(side)].is_empty())
