@@ -329,7 +329,8 @@ fn trial_line(s: &gravline::report::Summary) -> String {
         share,
         s.com.path_length_m,
         speed
-    )
+    ) + "; "
+        + &s.figures.line()
 }
 
 fn cutoff(a: &CutoffArgs) -> Result<ExitCode> {
