@@ -487,6 +487,13 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
         let summary = pipeline::process_file(&trial_path, &setup, &dir, &options)?;
         ui.warnings(&stem, &summary.warnings);
         println!("{}", trial_line(&summary));
+        if let Some(line) = gravline::synth::demo::event_error_line(
+            &stem,
+            &summary.figures,
+            &demo_steps(&dir.join("steps.csv")),
+        ) {
+            println!("{line}");
+        }
     }
     ui.info(&format!(
         "outputs in {}/<trial>/ (frames.csv, summary.json, steps.csv, plots)",
@@ -494,6 +501,25 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
     ));
     ui.info(&format!("caution: {}", CAUTIONS[0]));
     Ok(ExitCode::SUCCESS)
+}
+
+/// The (side, heel strike, toe-off) times of a `steps.csv` (none when it is absent).
+fn demo_steps(path: &Path) -> Vec<(usize, f64, Option<f64>)> {
+    let Ok(mut reader) = csv::Reader::from_path(path) else {
+        return Vec::new();
+    };
+    reader
+        .records()
+        .flatten()
+        .filter_map(|r| {
+            let side = match r.get(0)? {
+                "left" => 0,
+                "right" => 1,
+                _ => return None,
+            };
+            Some((side, r.get(1)?.parse().ok()?, r.get(2)?.parse().ok()))
+        })
+        .collect()
 }
 
 #[derive(Args, Debug)]
