@@ -703,6 +703,9 @@ xcom_length = "leg"       # pendulum length for the XCoM: "leg" or metres
 # midfoot_band_m = 0.05   # lifts: half-width of the mid-foot band
 gait_events = "zeni-bonci" # walking: "zeni-bonci" (Zeni 2008 refined by Bonci 2022) or "zeni"
 
+[trial]
+movement = "auto"         # "auto" (recognised from the data), "walk", "jump", "squat" or "stand"
+
 # [[load]]                 # an external mass (barbell, dumbbell)
 # name = "bar"
 # mass_kg = 100.0
