@@ -458,3 +458,27 @@ fn batch_columns_carry_the_movement_figures() {
     }
     assert_eq!(seen, 4);
 }
+
+/// The walking margin panel shows the AP and ML MoS with the heel strikes, and no "outside the
+/// BoS" shading (in single stance the CoM is outside the one-foot BoS by design); a standing
+/// trial keeps the omnidirectional margins.
+#[test]
+fn the_walking_margin_panel_shows_ap_and_ml_mos() {
+    use gravline::report::plots::{write_plots, PlotFormat};
+    let texts = |scenario: Scenario| {
+        let o = SynthOptions::for_scenario(scenario);
+        let (_, r) = run_opts(scenario, &o, "");
+        let subject = Subject::new(o.mass_kg, o.height_m, o.sex);
+        let summary = gravline::report::Summary::new(&r, &subject, None, "test".into());
+        let dir = tempfile::tempdir().unwrap();
+        write_plots(dir.path(), &r, &summary, PlotFormat::Svg).unwrap();
+        std::fs::read_to_string(dir.path().join("series.svg")).unwrap()
+    };
+    let walk = texts(Scenario::Walk);
+    for part in ["MoS AP", "MoS ML", "AP MoS at heel strike", "left heel strike"] {
+        assert!(walk.contains(part), "walk: no {part}");
+    }
+    assert!(!walk.contains("outside the BoS") && !walk.contains("MoS (XCoM, Hof 2005)"));
+    let stand = texts(Scenario::Stand);
+    assert!(stand.contains("MoS (XCoM, Hof 2005)") && !stand.contains("MoS AP"));
+}
