@@ -66,14 +66,19 @@ struct SubjectArgs {
     /// Stature in metres (instead of --subject).
     #[arg(long)]
     height_m: Option<f64>,
-    /// Sex, chooses the table's population (instead of --subject).
-    #[arg(long, value_enum)]
+    /// Sex, chooses the table's population (instead of --subject): female or male (f / m, any
+    /// case).
+    #[arg(long, value_enum, ignore_case = true)]
     sex: Option<SexArg>,
 }
 
+/// Sex on the command line: `female` / `male` or `f` / `m`, any case (as in manifests and
+/// subject files).
 #[derive(ValueEnum, Clone, Copy, Debug)]
 enum SexArg {
+    #[value(alias = "f")]
     Female,
+    #[value(alias = "m")]
     Male,
 }
 
@@ -277,7 +282,12 @@ fn config(args: &SetupArgs) -> Result<Config> {
 
 fn subject(args: &SubjectArgs) -> Result<Subject> {
     if let Some(path) = &args.subject {
-        return Ok(Subject::from_path(path)?);
+        let mut subject = Subject::from_path(path)?;
+        // The subject's id: its `name`, else the file's stem (`maren.toml` -> `maren`).
+        if subject.name.is_none() {
+            subject.name = path.file_stem().map(|s| s.to_string_lossy().into_owned());
+        }
+        return Ok(subject);
     }
     match (args.mass_kg, args.height_m, args.sex) {
         (Some(m), Some(h), Some(s)) => {

@@ -475,7 +475,12 @@ fn the_walking_margin_panel_shows_ap_and_ml_mos() {
         std::fs::read_to_string(dir.path().join("series.svg")).unwrap()
     };
     let walk = texts(Scenario::Walk);
-    for part in ["MoS AP", "MoS ML", "AP MoS at heel strike", "left heel strike"] {
+    for part in [
+        "MoS AP",
+        "MoS ML",
+        "AP MoS at heel strike",
+        "left heel strike",
+    ] {
         assert!(walk.contains(part), "walk: no {part}");
     }
     assert!(!walk.contains("outside the BoS") && !walk.contains("MoS (XCoM, Hof 2005)"));
