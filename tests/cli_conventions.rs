@@ -110,3 +110,31 @@ fn sex_is_spelt_one_way_everywhere() {
     let err = String::from_utf8_lossy(&out.get_output().stderr).to_string();
     assert!(err.contains("female or male (or f / m, any case)"), "{err}");
 }
+
+/// A re-run into the same folder removes the outputs it no longer produces: the squat run with
+/// its bar writes reps.csv and lift.png; run again without the load configuration, neither is
+/// left beside the new summary.
+#[test]
+fn a_rerun_removes_outputs_it_no_longer_writes() {
+    let out = tempfile::tempdir().unwrap();
+    let run = |config: Option<PathBuf>| {
+        let mut c = gravline();
+        c.arg("trial")
+            .arg(data("squat.csv"))
+            .arg("--subject")
+            .arg(data("tobin.toml"))
+            .arg("-q")
+            .arg("--out")
+            .arg(out.path());
+        if let Some(config) = config {
+            c.arg("--config").arg(config);
+        }
+        c.assert().code(0);
+    };
+    run(Some(data("squat-config.toml")));
+    let dir = out.path().join("squat");
+    assert!(dir.join("reps.csv").is_file() && dir.join("lift.png").is_file());
+    run(None);
+    assert!(!dir.join("reps.csv").exists() && !dir.join("lift.png").exists());
+    assert!(dir.join("summary.json").is_file() && dir.join("series.png").is_file());
+}
