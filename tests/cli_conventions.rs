@@ -137,4 +137,9 @@ fn a_rerun_removes_outputs_it_no_longer_writes() {
     run(None);
     assert!(!dir.join("reps.csv").exists() && !dir.join("lift.png").exists());
     assert!(dir.join("summary.json").is_file() && dir.join("series.png").is_file());
+    // Numbers with the precision they carry: 1200 frames of 0.01 s with a BoS are 12 s, not
+    // the 11.999999999999998 of their floating-point sum.
+    let summary = std::fs::read_to_string(dir.join("summary.json")).unwrap();
+    assert!(summary.contains("\"time_with_bos_s\": 12.0"), "{summary}");
+    assert!(!summary.contains("99999999999"), "{summary}");
 }

@@ -88,8 +88,14 @@ pub fn write_outputs(
         source,
     })?;
     let json = dir.join("summary.json");
+    // Numbers with the precision they carry (`fixed::SUMMARY_DIGITS` significant digits).
+    let mut value = serde_json::to_value(summary).map_err(|e| crate::pipeline::Error::Write {
+        path: json.display().to_string(),
+        source: std::io::Error::other(e),
+    })?;
+    fixed::round_json(&mut value, fixed::SUMMARY_DIGITS);
     write_atomic(&json, |w| {
-        serde_json::to_writer_pretty(&mut *w, summary).map_err(std::io::Error::other)?;
+        serde_json::to_writer_pretty(&mut *w, &value).map_err(std::io::Error::other)?;
         w.write_all(b"\n")
     })
     .map_err(err(&json))?;
