@@ -143,3 +143,103 @@ fn a_rerun_removes_outputs_it_no_longer_writes() {
     assert!(summary.contains("\"time_with_bos_s\": 12.0"), "{summary}");
     assert!(!summary.contains("99999999999"), "{summary}");
 }
+
+/// Errors: one prefix (`error:`, as the argument parser's own), the OS error once, and the fix.
+#[test]
+fn errors_have_one_prefix_the_os_error_once_and_the_fix() {
+    let run = |args: &[&str]| {
+        let out = gravline().args(args).current_dir(root()).assert().code(2);
+        String::from_utf8_lossy(&out.get_output().stderr).to_string()
+    };
+    let subject = ["--mass-kg", "70", "--height-m", "1.75", "--sex", "male"];
+    let missing = run(&[&["trial", "nothere.csv"][..], &subject].concat());
+    assert!(missing.starts_with("error: "), "{missing}");
+    assert_eq!(missing.matches("os error 2").count(), 1, "{missing}");
+    assert!(missing.contains("check the path"), "{missing}");
+    let folder = run(&[&["trial", "examples/data"][..], &subject].concat());
+    assert!(folder.starts_with("error: "), "{folder}");
+    assert!(
+        folder.contains("use `gravline batch examples/data --out DIR`"),
+        "{folder}"
+    );
+    let usage = run(&["trial"]);
+    assert!(usage.starts_with("error: "), "{usage}");
+}
+
+/// Every command's help has examples; -q and -v are apart, as global options.
+#[test]
+fn every_help_has_examples_and_the_global_options_apart() {
+    for command in [
+        "trial",
+        "cutoff",
+        "tables",
+        "landmarks",
+        "config",
+        "demo",
+        "batch",
+        "merge",
+        "completions",
+        "man",
+    ] {
+        let out = gravline().args([command, "--help"]).assert().code(0);
+        let help = String::from_utf8_lossy(&out.get_output().stdout).to_string();
+        assert!(help.contains("Examples:\n  gravline "), "{command}: {help}");
+        let global = help.find("Global options:").expect(command);
+        assert!(help[global..].contains("--quiet") && help[global..].contains("--verbose"));
+        assert!(!help[..global].contains("--quiet"), "{command}: {help}");
+    }
+}
+
+/// `--version` names the commit and the build date; completions and the man page come from the
+/// command line's definition.
+#[test]
+fn version_completions_and_man_page() {
+    let out = gravline().arg("--version").assert().code(0);
+    let version = String::from_utf8_lossy(&out.get_output().stdout).to_string();
+    assert!(version.starts_with(&format!("gravline {} (commit ", env!("CARGO_PKG_VERSION"))));
+    let date = version
+        .split("built ")
+        .nth(1)
+        .unwrap()
+        .trim()
+        .trim_end_matches(')');
+    assert_eq!(date.len(), 10, "{version}");
+    assert!(
+        date.as_bytes()[4] == b'-' && date.as_bytes()[7] == b'-',
+        "{version}"
+    );
+    for shell in ["bash", "zsh", "fish"] {
+        let out = gravline().args(["completions", shell]).assert().code(0);
+        let script = String::from_utf8_lossy(&out.get_output().stdout).to_string();
+        assert!(
+            script.contains("gravline") && script.contains("batch"),
+            "{shell}"
+        );
+    }
+    let out = gravline().arg("man").assert().code(0);
+    let man = String::from_utf8_lossy(&out.get_output().stdout).to_string();
+    assert!(
+        man.contains(".TH gravline 1") && man.contains("trial"),
+        "{man}"
+    );
+}
+
+/// `cutoff` ends with the lines to put in the configuration, and they parse as one.
+#[test]
+fn cutoff_ends_with_the_configuration_line() {
+    let out = gravline()
+        .args(["cutoff", "examples/data/walk.csv"])
+        .current_dir(root())
+        .assert()
+        .code(0);
+    let text = String::from_utf8_lossy(&out.get_output().stdout).to_string();
+    let tail: Vec<&str> = text.lines().rev().take(2).collect();
+    assert!(
+        tail[0].starts_with("cutoff_hz = ") && tail[1] == "[filter]",
+        "{text}"
+    );
+    let toml = format!("{}\n{}\n", tail[1], tail[0]);
+    let raw = gravline::config::RawConfig::from_toml(&toml, "cutoff").unwrap();
+    let config = gravline::config::Config::from_raw(&raw, "cutoff").unwrap();
+    assert!(config.cutoff_hz.unwrap() > 0.0);
+}
