@@ -243,3 +243,74 @@ fn cutoff_ends_with_the_configuration_line() {
     let config = gravline::config::Config::from_raw(&raw, "cutoff").unwrap();
     assert!(config.cutoff_hz.unwrap() > 0.0);
 }
+
+/// Every command line of the README's `sh` blocks (quick start and examples) runs and exits 0,
+/// in a folder holding a copy of `examples/data/`: `cargo run --release --` and `gravline` are
+/// the binary under test, a `> FILE` redirection takes its standard output, `# ...` is a
+/// comment. `cargo test` and `cargo bench` are the project's own commands, not gravline's, and
+/// are left out (this test runs inside the first).
+#[test]
+fn every_readme_command_line_runs() {
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    let mut lines = Vec::new();
+    let mut in_sh = false;
+    for line in readme.lines() {
+        if line.starts_with("```") {
+            in_sh = line == "```sh";
+            continue;
+        }
+        if in_sh {
+            lines.push(line.split(" #").next().unwrap().trim().to_string());
+        }
+    }
+    let work = tempfile::tempdir().unwrap();
+    let data_copy = work.path().join("examples/data");
+    std::fs::create_dir_all(&data_copy).unwrap();
+    for entry in std::fs::read_dir(data("")).unwrap() {
+        let entry = entry.unwrap();
+        std::fs::copy(entry.path(), data_copy.join(entry.file_name())).unwrap();
+    }
+    let mut ran = 0;
+    for line in lines.iter().filter(|l| !l.is_empty()) {
+        let (command, redirect) = match line.split_once(" > ") {
+            Some((c, file)) => (c.trim(), Some(file.trim())),
+            None => (line.as_str(), None),
+        };
+        let args: Vec<&str> = if let Some(rest) = command.strip_prefix("cargo run --release --") {
+            rest.split_whitespace().collect()
+        } else if let Some(rest) = command.strip_prefix("gravline") {
+            rest.split_whitespace().collect()
+        } else {
+            assert!(
+                command.starts_with("cargo test") || command.starts_with("cargo bench"),
+                "README line neither gravline nor cargo's: {line}"
+            );
+            continue;
+        };
+        let out = gravline()
+            .args(&args)
+            .current_dir(work.path())
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "`{line}` failed: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        if let Some(file) = redirect {
+            assert!(!out.stdout.is_empty(), "`{line}` printed nothing");
+            std::fs::write(work.path().join(file), &out.stdout).unwrap();
+        }
+        ran += 1;
+    }
+    assert!(ran >= 10, "only {ran} README command lines found");
+    // What the quick start promises is there.
+    for path in [
+        "gravline-demo/walk/summary.json",
+        "out/walk/summary.json",
+        "results/summary.csv",
+        "merged/groups.csv",
+    ] {
+        assert!(work.path().join(path).is_file(), "{path}");
+    }
+}
