@@ -467,6 +467,10 @@ fn run_filled(
         movement: Default::default(),
     };
     result.movement = crate::movement::analyse(&result, config.movement, &foot);
+    result.warnings.extend(crate::movement::unused_load_warning(
+        labels,
+        !result.load_names.is_empty(),
+    ));
     Ok((result, markers))
 }
 

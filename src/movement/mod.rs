@@ -228,6 +228,26 @@ impl MovementFigures {
     }
 }
 
+/// A warning when the trial has markers that look like a barbell's (labels starting with `bar`)
+/// but no load is configured: their mass is then left out of the CoM, and repetitions come from
+/// the body's CoM.
+pub fn unused_load_warning(labels: &[String], has_loads: bool) -> Option<crate::warning::Warning> {
+    if has_loads {
+        return None;
+    }
+    let bars: Vec<&str> = labels
+        .iter()
+        .map(String::as_str)
+        .filter(|l| l.to_ascii_lowercase().starts_with("bar"))
+        .collect();
+    (!bars.is_empty()).then(|| crate::warning::Warning::Approximation {
+        what: format!(
+            "markers {} look like a load, but no [[load]] is configured: the load's mass is not in the CoM and repetitions come from the body's CoM; add a [[load]] with its mass_kg and markers",
+            bars.join(", ")
+        ),
+    })
+}
+
 /// Time of frame `f` (from the trial's times, else `f / rate`).
 pub(crate) fn time_s(r: &TrialResult, f: usize) -> f64 {
     r.times_s.get(f).copied().unwrap_or(f as f64 / r.rate_hz)
@@ -241,6 +261,18 @@ pub(crate) fn mean_sd(values: &[f64]) -> (Option<f64>, Option<f64>) {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn bar_markers_without_a_load_are_named() {
+        let labels = vec!["c7".to_string(), "bar_left".into(), "Bar_right".into()];
+        let w = unused_load_warning(&labels, false).unwrap().to_string();
+        assert!(
+            w.contains("bar_left, Bar_right") && w.contains("[[load]]"),
+            "{w}"
+        );
+        assert!(unused_load_warning(&labels, true).is_none());
+        assert!(unused_load_warning(&labels[..1], false).is_none());
+    }
 
     #[test]
     fn choices_parse_and_names_round_trip() {
