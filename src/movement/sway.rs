@@ -94,8 +94,8 @@ mod tests {
     use super::*;
 
     /// A point on a circle of radius a (x) and b (y) at uniform angles: RMS a/√2 and b/√2, the
-    /// covariance diag(a²/2, b²/2) · n/(n−1), path close to the ellipse's perimeter (for a = b,
-    /// 2πa). Geometry, no source.
+    /// covariance diag(a²/2, b²/2) · n/(n−1), path the n − 1 chords of the open polygon.
+    /// Geometry, no source.
     #[test]
     fn a_circle_has_known_figures() {
         let n = 10_000;
@@ -111,7 +111,9 @@ mod tests {
         let s = of_points(&xy, &times, &frames).unwrap();
         assert!((s.rms_ap_m - a / 2f64.sqrt()).abs() < 1e-9);
         assert!((s.rms_ml_m - a / 2f64.sqrt()).abs() < 1e-9);
-        assert!((s.path_length_m - std::f64::consts::TAU * a).abs() < 1e-6);
+        // n - 1 chords of 2 a sin(pi / n) (the circle is not closed).
+        let chord = 2.0 * a * (std::f64::consts::PI / n as f64).sin();
+        assert!((s.path_length_m - (n - 1) as f64 * chord).abs() < 1e-12);
         let var = a * a / 2.0 * n as f64 / (n as f64 - 1.0);
         assert!((s.ellipse_area_95_m2 - std::f64::consts::PI * CHI2_2_95 * var).abs() < 1e-12);
         assert!((s.mean_speed_m_s - s.path_length_m / times[n - 1]).abs() < 1e-12);
