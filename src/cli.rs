@@ -12,19 +12,61 @@ use gravline::report::CAUTIONS;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
-const EPILOGUE: &str = "Cautions: CoM estimated from generic anthropometric tables and skin markers typically \
+/// `--version`: the package version, the commit and the build date (from build.rs).
+const VERSION: &str = concat!(
+    env!("CARGO_PKG_VERSION"),
+    " (commit ",
+    env!("GRAVLINE_COMMIT"),
+    ", built ",
+    env!("GRAVLINE_BUILD_DATE"),
+    ")"
+);
+
+/// The cautions shown under every help text.
+macro_rules! cautions {
+    () => {
+        "Cautions: CoM estimated from generic anthropometric tables and skin markers typically \
 differs from the true CoM by a centimetre or more. gravline is an analysis aid, not a medical device: \
 fall-risk, rehabilitation and training decisions belong to qualified, licensed practitioners under \
-local regulations. Lifting analysis does not make a lift safe.";
+local regulations. Lifting analysis does not make a lift safe."
+    };
+}
+
+const EPILOGUE: &str = concat!(
+    "Examples:\n  gravline demo --out demo\n  gravline trial examples/data/walk.csv --subject examples/data/maren.toml --out out\n  gravline batch examples/data/manifest.csv --out results\n\n",
+    cautions!()
+);
+const TRIAL_HELP: &str = concat!(
+    "Examples:\n  gravline trial examples/data/walk.csv --subject examples/data/maren.toml --out out\n  gravline trial examples/data/squat.csv --subject examples/data/tobin.toml --config examples/data/squat-config.toml --out out\n  gravline trial examples/data/jump.csv --mass-kg 64.5 --height-m 1.72 --sex female --out out --plot-format svg\n\n",
+    cautions!()
+);
+const CUTOFF_HELP: &str = "Examples:\n  gravline cutoff examples/data/walk.csv\n  gravline cutoff examples/data/walk.csv --csv residuals.csv";
+const TABLES_HELP: &str =
+    "Examples:\n  gravline tables\n  gravline tables de-leva-1996 --sex female";
+const LANDMARKS_HELP: &str =
+    "Examples:\n  gravline landmarks\n  gravline landmarks examples/data/walk.csv";
+const CONFIG_HELP: &str = "Examples:\n  gravline config --print-default > gravline.toml";
+const DEMO_HELP: &str = concat!(
+    "Examples:\n  gravline demo\n  gravline demo --out demo --no-plots\n\n",
+    cautions!()
+);
+const BATCH_HELP: &str = concat!(
+    "Examples:\n  gravline batch examples/data/manifest.csv --out results\n  gravline batch trials/ --subject examples/data/maren.toml --out results --jobs 4\n  gravline batch examples/data/manifest.csv --out shards --shard 1/2\n\n",
+    cautions!()
+);
+const MERGE_HELP: &str =
+    "Examples:\n  gravline merge shards/summary-1-of-2.parquet shards/summary-2-of-2.parquet --out results";
+const COMPLETIONS_HELP: &str = "Examples:\n  gravline completions bash > ~/.local/share/bash-completion/completions/gravline\n  gravline completions zsh > ~/.zfunc/_gravline\n  gravline completions fish > ~/.config/fish/completions/gravline.fish";
+const MAN_HELP: &str = "Examples:\n  gravline man > gravline.1 && man ./gravline.1";
 
 #[derive(Parser, Debug)]
-#[command(name = "gravline", version, about = "Whole-body center of mass, its velocity and its margin to the base of support, from 3D marker trajectories", after_help = EPILOGUE)]
+#[command(name = "gravline", version = VERSION, about = "Whole-body center of mass, its velocity and its margin to the base of support, from 3D marker trajectories", after_help = EPILOGUE)]
 struct Cli {
     /// Print only errors.
-    #[arg(short, long, global = true)]
+    #[arg(short, long, global = true, help_heading = "Global options")]
     quiet: bool,
     /// Print every warning in full.
-    #[arg(short, long, global = true)]
+    #[arg(short, long, global = true, help_heading = "Global options")]
     verbose: bool,
     #[command(subcommand)]
     command: Command,
@@ -33,26 +75,41 @@ struct Cli {
 #[derive(Subcommand, Debug)]
 enum Command {
     /// Process one trial: frames.csv, summary.json, steps.csv and plots in <out>/<trial-stem>/.
-    #[command(after_help = EPILOGUE)]
+    #[command(after_help = TRIAL_HELP)]
     Trial(TrialArgs),
     /// Winter's residual analysis: suggested low-pass cut-off per marker and overall.
+    #[command(after_help = CUTOFF_HELP)]
     Cutoff(CutoffArgs),
     /// List the built-in anthropometric tables, or show one.
+    #[command(after_help = TABLES_HELP)]
     Tables(TablesArgs),
     /// Print the landmark vocabulary, and a mapping template for a trial file.
+    #[command(after_help = LANDMARKS_HELP)]
     Landmarks(LandmarksArgs),
     /// Configuration helpers.
+    #[command(after_help = CONFIG_HELP)]
     Config(ConfigArgs),
     /// Run the bundled example trials end to end.
-    #[command(after_help = EPILOGUE)]
+    #[command(after_help = DEMO_HELP)]
     Demo(DemoArgs),
     /// Process many trials in parallel (a manifest CSV or a folder): per-trial outputs in
     /// <out>/trials/<id>/, summary.csv, summary.parquet and groups.csv in <out>.
-    #[command(after_help = EPILOGUE)]
+    #[command(after_help = BATCH_HELP)]
     Batch(BatchArgs),
     /// Join shard summaries (summary-K-of-N.parquet or .csv) into the summary.csv, summary.parquet
     /// and groups.csv of an unsharded run.
+    #[command(after_help = MERGE_HELP)]
     Merge(MergeArgs),
+    /// Print a shell completion script (generated from this command line's definition).
+    #[command(after_help = COMPLETIONS_HELP)]
+    Completions {
+        /// bash, zsh, fish, elvish or powershell.
+        #[arg(value_enum)]
+        shell: clap_complete::Shell,
+    },
+    /// Print the man page (roff, generated from this command line's definition).
+    #[command(after_help = MAN_HELP)]
+    Man,
 }
 
 #[derive(Args, Debug, Clone, Default)]
@@ -66,14 +123,19 @@ struct SubjectArgs {
     /// Stature in metres (instead of --subject).
     #[arg(long)]
     height_m: Option<f64>,
-    /// Sex, chooses the table's population (instead of --subject).
-    #[arg(long, value_enum)]
+    /// Sex, chooses the table's population (instead of --subject): female or male (f / m, any
+    /// case).
+    #[arg(long, value_enum, ignore_case = true)]
     sex: Option<SexArg>,
 }
 
+/// Sex on the command line: `female` / `male` or `f` / `m`, any case (as in manifests and
+/// subject files).
 #[derive(ValueEnum, Clone, Copy, Debug)]
 enum SexArg {
+    #[value(alias = "f")]
     Female,
+    #[value(alias = "m")]
     Male,
 }
 
@@ -208,6 +270,18 @@ pub fn run() -> Result<ExitCode> {
         Command::Demo(a) => demo(&a, &ui),
         Command::Batch(a) => batch(&a, &ui),
         Command::Merge(a) => merge(&a, &ui),
+        Command::Completions { shell } => {
+            let mut command = <Cli as clap::CommandFactory>::command();
+            clap_complete::generate(shell, &mut command, "gravline", &mut std::io::stdout());
+            Ok(ExitCode::SUCCESS)
+        }
+        Command::Man => {
+            let command = <Cli as clap::CommandFactory>::command();
+            clap_mangen::Man::new(command)
+                .render(&mut std::io::stdout())
+                .context("cannot write the man page to standard output")?;
+            Ok(ExitCode::SUCCESS)
+        }
     }
 }
 
@@ -277,7 +351,12 @@ fn config(args: &SetupArgs) -> Result<Config> {
 
 fn subject(args: &SubjectArgs) -> Result<Subject> {
     if let Some(path) = &args.subject {
-        return Ok(Subject::from_path(path)?);
+        let mut subject = Subject::from_path(path)?;
+        // The subject's id: its `name`, else the file's stem (`maren.toml` -> `maren`).
+        if subject.name.is_none() {
+            subject.name = path.file_stem().map(|s| s.to_string_lossy().into_owned());
+        }
+        return Ok(subject);
     }
     match (args.mass_kg, args.height_m, args.sex) {
         (Some(m), Some(h), Some(s)) => {
@@ -292,6 +371,12 @@ fn subject(args: &SubjectArgs) -> Result<Subject> {
 }
 
 fn trial(a: &TrialArgs, ui: &Ui) -> Result<ExitCode> {
+    if a.trial.is_dir() {
+        bail!(
+            "{0} is a folder, `trial` takes one file: to process every trial in it use `gravline batch {0} --out DIR`",
+            a.trial.display()
+        );
+    }
     let setup = Setup::new(config(&a.setup)?, subject(&a.subject)?)?;
     let stem = a
         .trial
@@ -329,7 +414,8 @@ fn trial_line(s: &gravline::report::Summary) -> String {
         share,
         s.com.path_length_m,
         speed
-    )
+    ) + "; "
+        + &s.figures.line()
 }
 
 fn cutoff(a: &CutoffArgs) -> Result<ExitCode> {
@@ -337,6 +423,12 @@ fn cutoff(a: &CutoffArgs) -> Result<ExitCode> {
     let trial = gravline::trial::read_trial(&a.trial, &config.read_options())?;
     let report = gravline::signal::cutoff::analyse_trial(&trial);
     print!("{}", report.describe());
+    match report.overall_hz() {
+        Some(hz) => println!(
+            "to apply it, put in the configuration (--config C.toml):\n[filter]\ncutoff_hz = {hz:.1}"
+        ),
+        None => println!("no cut-off could be suggested: keep the configuration's cutoff_hz"),
+    }
     if let Some(path) = &a.csv {
         gravline::report::write_atomic(path, |w| report.write_curves(w))
             .with_context(|| format!("cannot write {}", path.display()))?;
@@ -486,6 +578,13 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
         let summary = pipeline::process_file(&trial_path, &setup, &dir, &options)?;
         ui.warnings(&stem, &summary.warnings);
         println!("{}", trial_line(&summary));
+        if let Some(line) = gravline::synth::demo::event_error_line(
+            &stem,
+            &summary.figures,
+            &demo_steps(&dir.join("steps.csv")),
+        ) {
+            println!("{line}");
+        }
     }
     ui.info(&format!(
         "outputs in {}/<trial>/ (frames.csv, summary.json, steps.csv, plots)",
@@ -493,6 +592,25 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
     ));
     ui.info(&format!("caution: {}", CAUTIONS[0]));
     Ok(ExitCode::SUCCESS)
+}
+
+/// The (side, heel strike, toe-off) times of a `steps.csv` (none when it is absent).
+fn demo_steps(path: &Path) -> Vec<(usize, f64, Option<f64>)> {
+    let Ok(mut reader) = csv::Reader::from_path(path) else {
+        return Vec::new();
+    };
+    reader
+        .records()
+        .flatten()
+        .filter_map(|r| {
+            let side = match r.get(0)? {
+                "left" => 0,
+                "right" => 1,
+                _ => return None,
+            };
+            Some((side, r.get(1)?.parse().ok()?, r.get(2)?.parse().ok()))
+        })
+        .collect()
 }
 
 #[derive(Args, Debug)]

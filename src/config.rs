@@ -129,6 +129,22 @@ pub struct RawConfig {
     pub group: Vec<RawGroup>,
     #[serde(default, rename = "virtual")]
     pub virtual_landmarks: BTreeMap<String, RawVirtual>,
+    #[serde(default, skip_serializing_if = "RawTrialSection::is_empty")]
+    pub trial: RawTrialSection,
+}
+
+/// `[trial]`: what the trial is.
+#[derive(Clone, Debug, Default, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct RawTrialSection {
+    /// `walk`, `jump`, `squat`, `stand` or `auto` (recognised from the data, the default).
+    pub movement: Option<String>,
+}
+
+impl RawTrialSection {
+    fn is_empty(&self) -> bool {
+        self.movement.is_none()
+    }
 }
 
 impl RawConfig {
@@ -298,6 +314,9 @@ pub struct Config {
     pub loads: Vec<Load>,
     pub groups: Vec<Group>,
     pub virtual_landmarks: BTreeMap<String, VirtualDef>,
+    /// `[trial] movement`; left out of the configuration hash when `auto`.
+    #[serde(skip_serializing_if = "crate::movement::MovementChoice::is_auto")]
+    pub movement: crate::movement::MovementChoice,
 }
 
 /// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
@@ -501,6 +520,14 @@ impl Config {
             };
             virtual_landmarks.insert(name.clone(), def);
         }
+        let movement = match raw.trial.movement.as_deref() {
+            None => crate::movement::MovementChoice::Auto,
+            Some(m) => crate::movement::MovementChoice::parse(m).ok_or_else(|| {
+                invalid(format!(
+                    "[trial] movement = `{m}`; give \"walk\", \"jump\", \"squat\", \"stand\" or \"auto\""
+                ))
+            })?,
+        };
         Ok(Config {
             units,
             up_axis,
@@ -529,6 +556,7 @@ impl Config {
             loads,
             groups,
             virtual_landmarks,
+            movement,
         })
     }
 
@@ -674,6 +702,9 @@ max_gap_s = 0.10      # longest interior gap bridged by the cubic spline
 xcom_length = "leg"       # pendulum length for the XCoM: "leg" or metres
 # midfoot_band_m = 0.05   # lifts: half-width of the mid-foot band
 gait_events = "zeni-bonci" # walking: "zeni-bonci" (Zeni 2008 refined by Bonci 2022) or "zeni"
+
+[trial]
+movement = "auto"         # "auto" (recognised from the data), "walk", "jump", "squat" or "stand"
 
 # [[load]]                 # an external mass (barbell, dumbbell)
 # name = "bar"

@@ -36,6 +36,8 @@ pub mod body;
 pub mod com;
 /// Configuration and subject, validated once.
 pub mod config;
+/// Movement recognition and per-movement figures (walk, jump, squat, stand).
+pub mod movement;
 /// One trial through every stage.
 pub mod pipeline;
 /// frames.csv, steps.csv, summary.json and plots.

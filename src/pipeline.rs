@@ -81,6 +81,8 @@ pub struct TrialResult {
     pub lift: Option<support::lift::LiftSeries>,
     pub model: ModelInfo,
     pub warnings: Vec<Warning>,
+    /// The movement and its figures (gait, jump, repetitions, sway).
+    pub movement: crate::movement::MovementFigures,
 }
 
 impl TrialResult {
@@ -438,7 +440,7 @@ fn run_filled(
         omega0_rad_s: omega0,
         gait_events: config.support.gait_events,
     };
-    let result = TrialResult {
+    let mut result = TrialResult {
         name: trial.name.clone(),
         times_s: trial.times_s.clone(),
         rate_hz: trial.rate_hz,
@@ -462,7 +464,13 @@ fn run_filled(
         lift,
         model,
         warnings,
+        movement: Default::default(),
     };
+    result.movement = crate::movement::analyse(&result, config.movement, &foot);
+    result.warnings.extend(crate::movement::unused_load_warning(
+        labels,
+        !result.load_names.is_empty(),
+    ));
     Ok((result, markers))
 }
 

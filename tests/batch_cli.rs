@@ -382,7 +382,14 @@ fn groups_equal_a_hand_computation() {
         ),
         ("1", "0.02", "")
     );
-    // Groups in order of first appearance: subject a, b; condition slow, fast.
+    // Subject a in condition slow: path 1 and 6, mean 3.5, SD sqrt(12.5); a subject's trials in
+    // another condition are not averaged in.
+    let a_slow = get("subject_condition", "a / slow", "com_path_length_m");
+    assert_eq!(a_slow["n"], "2");
+    approx::assert_abs_diff_eq!(num(&a_slow["mean"]), 3.5, epsilon = 1e-12);
+    approx::assert_abs_diff_eq!(num(&a_slow["sd"]), 12.5f64.sqrt(), epsilon = 1e-12);
+    // Groups in order of first appearance: subject a, b; condition slow, fast; subject x
+    // condition a / slow, b / fast, a / fast (row 5 has no condition).
     let order: Vec<(String, String)> = groups
         .iter()
         .filter(|g| g["figure"] == "com_path_length_m")
@@ -393,6 +400,9 @@ fn groups_equal_a_hand_computation() {
         ("subject", "b"),
         ("condition", "slow"),
         ("condition", "fast"),
+        ("subject_condition", "a / slow"),
+        ("subject_condition", "b / fast"),
+        ("subject_condition", "a / fast"),
     ]
     .iter()
     .map(|(a, b)| (a.to_string(), b.to_string()))

@@ -25,7 +25,9 @@ use std::fmt;
 use std::path::Path;
 
 /// Sex of the subject; chooses the table's population where a table has one per sex.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, serde::Deserialize)]
+/// One spelling rule everywhere (subject files, manifests, `subjects.csv`, the command line):
+/// `female` / `male` or `f` / `m`, any case ([`Sex::parse`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Sex {
     Female,
@@ -46,6 +48,17 @@ impl Sex {
             Sex::Female => "female",
             Sex::Male => "male",
         }
+    }
+}
+
+impl<'de> serde::Deserialize<'de> for Sex {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Sex, D::Error> {
+        let text = String::deserialize(d)?;
+        Sex::parse(&text).ok_or_else(|| {
+            serde::de::Error::custom(format!(
+                "sex = `{text}`; use female or male (or f / m, any case)"
+            ))
+        })
     }
 }
 

@@ -37,6 +37,8 @@ pub const SUBJECT_FIELDS: [&str; 7] = [
 
 /// The file a directory batch reads its subjects from, when present.
 pub const SUBJECTS_FILE: &str = "subjects.csv";
+/// A manifest in a trial folder: never taken for a trial in folder mode.
+pub const MANIFEST_FILE: &str = "manifest.csv";
 
 /// A problem that stops the whole batch before any trial runs.
 #[derive(Debug, thiserror::Error)]
@@ -162,8 +164,12 @@ impl Record<'_> {
         let mass_kg = self.number("mass_kg", self.required("mass_kg")?)?;
         let height_m = self.number("height_m", self.required("height_m")?)?;
         let sex_text = self.required("sex")?;
-        let sex = Sex::parse(sex_text)
-            .ok_or_else(|| format!("{}: sex = `{sex_text}`; use female or male", self.origin))?;
+        let sex = Sex::parse(sex_text).ok_or_else(|| {
+            format!(
+                "{}: sex = `{sex_text}`; use female or male (or f / m, any case)",
+                self.origin
+            )
+        })?;
         let mut subject = Subject::new(mass_kg, height_m, sex);
         subject.name = self.get("subject").map(str::to_string);
         let fields: [&mut Option<f64>; 7] = [
@@ -378,7 +384,9 @@ pub fn read_directory(
         let is_csv = Path::new(&name)
             .extension()
             .is_some_and(|e| e.eq_ignore_ascii_case("csv"));
-        if is_csv && name != SUBJECTS_FILE && !is_output(&name) && entry.path().is_file() {
+        // A folder's subject file and a manifest beside the trials are not trials.
+        let not_trial = name == SUBJECTS_FILE || name == MANIFEST_FILE;
+        if is_csv && !not_trial && !is_output(&name) && entry.path().is_file() {
             names.push(name);
         }
     }
@@ -629,7 +637,14 @@ mod tests {
     #[test]
     fn a_directory_is_sorted_and_uses_subjects_csv() {
         let dir = tempfile::tempdir().unwrap();
-        for n in ["b.csv", "a.csv", "c.CSV", "notes.txt", "summary-1-of-2.csv"] {
+        for n in [
+            "b.csv",
+            "a.csv",
+            "c.CSV",
+            "notes.txt",
+            "summary-1-of-2.csv",
+            "manifest.csv",
+        ] {
             write(dir.path(), n, "");
         }
         write(

@@ -105,7 +105,7 @@ impl Progress {
             TrialOutcome::Ran => {}
         }
         if let Some(e) = error {
-            self.print(&format!("batch: error: {e}"));
+            self.print(&format!("error: {e}"));
         }
         let status = format!("{} failed, {} skipped", c.failed, c.skipped);
         match self.mode {

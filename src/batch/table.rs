@@ -2,7 +2,8 @@
 //! trial's `summary.json` flattened into columns whose names carry their units ([`columns`]),
 //! written as CSV (csv crate) and Parquet (polars), read back from either for `merge`; and the
 //! group statistics of `groups.csv` ([`groups`]): mean and sample standard deviation (n - 1 in
-//! the denominator) of [`GROUP_FIGURES`] per subject and per condition.
+//! the denominator) of [`GROUP_FIGURES`] per subject, per condition and per subject in each
+//! condition.
 //!
 //! A row is always built from the text of the trial's `summary.json` (also for a trial just
 //! run), so a row taken over by `--resume` is identical to the row of a fresh run.
@@ -121,6 +122,61 @@ pub struct StoredSummary {
     /// Lift figures (trials with loads).
     #[serde(default)]
     pub lift: Option<StoredLift>,
+    /// The movement (`walk`, `jump`, `squat`, `stand`) and its figures.
+    #[serde(default)]
+    pub movement: Option<String>,
+    #[serde(default)]
+    pub gait: Option<StoredGait>,
+    #[serde(default)]
+    pub jump: Option<StoredJump>,
+    #[serde(default)]
+    pub reps: Vec<StoredRep>,
+    #[serde(default)]
+    pub sway: Option<StoredSway>,
+}
+
+/// `summary.json` → `gait`.
+#[derive(Clone, Debug, Deserialize)]
+pub struct StoredGait {
+    pub walking_speed_m_s: Option<f64>,
+    pub cadence_steps_per_min: Option<f64>,
+    pub stride_time_s: Option<f64>,
+    pub step_time_s: Option<f64>,
+    pub double_support_fraction: Option<f64>,
+    pub step_length_m: Option<f64>,
+    pub step_length_sd_m: Option<f64>,
+    pub step_width_m: Option<f64>,
+    pub step_width_sd_m: Option<f64>,
+    pub mos_ap_heel_strike_m: Option<f64>,
+    pub min_mos_ml_single_stance_m: Option<f64>,
+}
+
+/// `summary.json` → `jump`.
+#[derive(Clone, Debug, Deserialize)]
+pub struct StoredJump {
+    pub flight_time_s: Option<f64>,
+    pub takeoff_velocity_m_s: Option<f64>,
+    pub height_from_takeoff_velocity_m: Option<f64>,
+    pub height_from_flight_time_m: Option<f64>,
+    pub countermovement_depth_m: Option<f64>,
+}
+
+/// `summary.json` → `reps[]`.
+#[derive(Clone, Debug, Deserialize)]
+pub struct StoredRep {
+    pub depth_m: Option<f64>,
+    pub duration_s: Option<f64>,
+    pub peak_ascent_speed_m_s: Option<f64>,
+}
+
+/// `summary.json` → `sway`.
+#[derive(Clone, Debug, Deserialize)]
+pub struct StoredSway {
+    pub path_length_m: Option<f64>,
+    pub rms_ap_m: Option<f64>,
+    pub rms_ml_m: Option<f64>,
+    pub ellipse_area_95_m2: Option<f64>,
+    pub mean_speed_m_s: Option<f64>,
 }
 
 /// `summary.json` → `lift`.
@@ -212,6 +268,12 @@ impl StoredSummary {
 
     fn side(&self, side: &str) -> Option<&StoredSteps> {
         self.steps.iter().find(|s| s.side == side)
+    }
+
+    /// Mean of a figure over the repetitions.
+    fn reps_mean(&self, get: impl Fn(&StoredRep) -> Option<f64>) -> Option<f64> {
+        let v: Vec<f64> = self.reps.iter().filter_map(get).collect();
+        mean_sd(&v).0
     }
 }
 
@@ -317,6 +379,77 @@ fn named_cells(
         (
             "lift_time_outside_band_s",
             f(&|s| s.lift.as_ref()?.time_outside_band_s),
+        ),
+        ("movement", t(&|s| s.movement.as_deref())),
+        (
+            "gait_walking_speed_m_s",
+            f(&|s| s.gait.as_ref()?.walking_speed_m_s),
+        ),
+        (
+            "gait_cadence_steps_per_min",
+            f(&|s| s.gait.as_ref()?.cadence_steps_per_min),
+        ),
+        ("gait_stride_time_s", f(&|s| s.gait.as_ref()?.stride_time_s)),
+        ("gait_step_time_s", f(&|s| s.gait.as_ref()?.step_time_s)),
+        (
+            "gait_double_support_fraction",
+            f(&|s| s.gait.as_ref()?.double_support_fraction),
+        ),
+        ("gait_step_length_m", f(&|s| s.gait.as_ref()?.step_length_m)),
+        (
+            "gait_step_length_sd_m",
+            f(&|s| s.gait.as_ref()?.step_length_sd_m),
+        ),
+        ("gait_step_width_m", f(&|s| s.gait.as_ref()?.step_width_m)),
+        (
+            "gait_step_width_sd_m",
+            f(&|s| s.gait.as_ref()?.step_width_sd_m),
+        ),
+        (
+            "gait_mos_ap_heel_strike_m",
+            f(&|s| s.gait.as_ref()?.mos_ap_heel_strike_m),
+        ),
+        (
+            "gait_min_mos_ml_single_stance_m",
+            f(&|s| s.gait.as_ref()?.min_mos_ml_single_stance_m),
+        ),
+        ("jump_flight_time_s", f(&|s| s.jump.as_ref()?.flight_time_s)),
+        (
+            "jump_takeoff_velocity_m_s",
+            f(&|s| s.jump.as_ref()?.takeoff_velocity_m_s),
+        ),
+        (
+            "jump_height_from_takeoff_velocity_m",
+            f(&|s| s.jump.as_ref()?.height_from_takeoff_velocity_m),
+        ),
+        (
+            "jump_height_from_flight_time_m",
+            f(&|s| s.jump.as_ref()?.height_from_flight_time_m),
+        ),
+        (
+            "jump_countermovement_depth_m",
+            f(&|s| s.jump.as_ref()?.countermovement_depth_m),
+        ),
+        (
+            "reps",
+            i(&|s| (s.movement.as_deref() == Some("squat")).then_some(s.reps.len() as i64)),
+        ),
+        ("reps_depth_m", f(&|s| s.reps_mean(|r| r.depth_m))),
+        ("reps_duration_s", f(&|s| s.reps_mean(|r| r.duration_s))),
+        (
+            "reps_peak_ascent_speed_m_s",
+            f(&|s| s.reps_mean(|r| r.peak_ascent_speed_m_s)),
+        ),
+        ("sway_path_length_m", f(&|s| s.sway.as_ref()?.path_length_m)),
+        ("sway_rms_ap_m", f(&|s| s.sway.as_ref()?.rms_ap_m)),
+        ("sway_rms_ml_m", f(&|s| s.sway.as_ref()?.rms_ml_m)),
+        (
+            "sway_ellipse_area_95_m2",
+            f(&|s| s.sway.as_ref()?.ellipse_area_95_m2),
+        ),
+        (
+            "sway_mean_speed_m_s",
+            f(&|s| s.sway.as_ref()?.mean_speed_m_s),
         ),
         ("table", t(&|s| s.provenance.model.table.as_deref())),
         ("body_mass_kg", f(&|s| s.provenance.model.body_mass_kg)),
@@ -599,7 +732,7 @@ pub fn read_table(path: &Path) -> Result<Vec<Row>, TableError> {
 }
 
 /// The figures `groups.csv` summarises, in its order.
-pub const GROUP_FIGURES: [&str; 21] = [
+pub const GROUP_FIGURES: [&str; 43] = [
     "valid_fraction",
     "com_mean_height_m",
     "com_mean_height_of_stature",
@@ -621,12 +754,34 @@ pub const GROUP_FIGURES: [&str; 21] = [
     "right_mos_ap_heel_strike_m",
     "left_min_mos_ml_single_stance_m",
     "right_min_mos_ml_single_stance_m",
+    "gait_walking_speed_m_s",
+    "gait_cadence_steps_per_min",
+    "gait_stride_time_s",
+    "gait_step_time_s",
+    "gait_double_support_fraction",
+    "gait_step_length_m",
+    "gait_step_width_m",
+    "gait_mos_ap_heel_strike_m",
+    "gait_min_mos_ml_single_stance_m",
+    "jump_flight_time_s",
+    "jump_takeoff_velocity_m_s",
+    "jump_height_from_takeoff_velocity_m",
+    "jump_height_from_flight_time_m",
+    "jump_countermovement_depth_m",
+    "reps_depth_m",
+    "reps_duration_s",
+    "reps_peak_ascent_speed_m_s",
+    "sway_path_length_m",
+    "sway_rms_ap_m",
+    "sway_rms_ml_m",
+    "sway_ellipse_area_95_m2",
+    "sway_mean_speed_m_s",
 ];
 
 /// One line of `groups.csv`.
 #[derive(Clone, Debug, PartialEq)]
 pub struct GroupStat {
-    /// `subject` or `condition`.
+    /// `subject`, `condition` or `subject_condition`.
     pub by: &'static str,
     pub group: String,
     pub figure: &'static str,
@@ -637,16 +792,27 @@ pub struct GroupStat {
     pub sd: Option<f64>,
 }
 
+/// `by` of the groups of one subject in one condition (`group` = `subject / condition`).
+pub const SUBJECT_X_CONDITION: &str = "subject_condition";
+
 /// Mean and sample SD of [`GROUP_FIGURES`] over the ok rows of each subject, then of each
-/// condition; groups in order of first appearance in the table, rows without a subject (or
-/// condition) left out of that grouping.
+/// condition, then of each subject in each condition; groups in order of first appearance in
+/// the table, rows without a subject (or condition) left out of that grouping.
 pub fn groups(rows: &[Row]) -> Vec<GroupStat> {
     let mut out = Vec::new();
-    for by in ["subject", "condition"] {
+    let text = |row: &Row, column: &str| row.get(column).and_then(Cell::as_str).map(str::to_string);
+    for by in ["subject", "condition", SUBJECT_X_CONDITION] {
         let mut order: Vec<String> = Vec::new();
         let mut members: HashMap<String, Vec<&Row>> = HashMap::new();
         for row in rows.iter().filter(|r| r.is_ok()) {
-            let Some(g) = row.get(by).and_then(Cell::as_str) else {
+            let key = if by == SUBJECT_X_CONDITION {
+                text(row, "subject")
+                    .zip(text(row, "condition"))
+                    .map(|(s, c)| format!("{s} / {c}"))
+            } else {
+                text(row, by)
+            };
+            let Some(g) = key.as_deref() else {
                 continue;
             };
             if !members.contains_key(g) {

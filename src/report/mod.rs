@@ -83,12 +83,59 @@ pub fn write_outputs(
     for format in plots {
         plots::write_plots(dir, result, summary, *format)?;
     }
+    remove_stale(dir, result, plots).map_err(|(path, source)| crate::pipeline::Error::Write {
+        path: path.display().to_string(),
+        source,
+    })?;
     let json = dir.join("summary.json");
+    // Numbers with the precision they carry (`fixed::SUMMARY_DIGITS` significant digits).
+    let mut value = serde_json::to_value(summary).map_err(|e| crate::pipeline::Error::Write {
+        path: json.display().to_string(),
+        source: std::io::Error::other(e),
+    })?;
+    fixed::round_json(&mut value, fixed::SUMMARY_DIGITS);
     write_atomic(&json, |w| {
-        serde_json::to_writer_pretty(&mut *w, summary).map_err(std::io::Error::other)?;
+        serde_json::to_writer_pretty(&mut *w, &value).map_err(std::io::Error::other)?;
         w.write_all(b"\n")
     })
     .map_err(err(&json))?;
+    Ok(())
+}
+
+/// Removes the outputs of an earlier run into `dir` that this run does not write (a `reps.csv`
+/// or `lift.png` of a trial now without a lift, `steps.csv` of a trial now without steps, plots
+/// of a format no longer asked for), so the folder holds only what belongs to its summary.
+fn remove_stale(
+    dir: &Path,
+    result: &crate::pipeline::TrialResult,
+    formats: &[plots::PlotFormat],
+) -> Result<(), (std::path::PathBuf, std::io::Error)> {
+    use plots::{Figure, PlotFormat};
+    let mut written = vec!["frames.csv".to_string()];
+    if !result.support.steps.is_empty() {
+        written.push("steps.csv".into());
+    }
+    if result.lift.as_ref().is_some_and(|l| !l.reps.is_empty()) {
+        written.push("reps.csv".into());
+    }
+    for format in formats {
+        for figure in Figure::for_result(result) {
+            written.push(format!("{}.{}", figure.stem(), format.extension()));
+        }
+    }
+    let mut ours = vec!["steps.csv".to_string(), "reps.csv".to_string()];
+    for format in [PlotFormat::Png, PlotFormat::Svg] {
+        for figure in [Figure::Path, Figure::Series, Figure::Lift] {
+            ours.push(format!("{}.{}", figure.stem(), format.extension()));
+        }
+    }
+    for name in ours.iter().filter(|n| !written.contains(n)) {
+        let path = dir.join(name);
+        match std::fs::remove_file(&path) {
+            Err(e) if e.kind() != std::io::ErrorKind::NotFound => return Err((path, e)),
+            _ => {}
+        }
+    }
     Ok(())
 }
 

@@ -93,6 +93,9 @@ pub struct Summary {
     pub support: SupportFigures,
     pub steps: Vec<StepMeans>,
     pub lift: Option<LiftFigures>,
+    /// `movement`, `movement_rule`, `gait`, `jump`, `reps`, `sway`.
+    #[serde(flatten)]
+    pub figures: crate::movement::MovementFigures,
     pub warnings: Vec<String>,
     pub warning_details: Vec<Warning>,
     pub provenance: Provenance,
@@ -242,6 +245,7 @@ impl Summary {
             support,
             steps,
             lift,
+            figures: r.movement.clone(),
             warnings: warnings.iter().map(|w| w.to_string()).collect(),
             warning_details: warnings,
             provenance: Provenance {

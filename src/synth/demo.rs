@@ -356,3 +356,84 @@ pub fn demo_files() -> Vec<DemoFile> {
     });
     files
 }
+
+/// The ground truth of the demo trial named `stem` (`walk`, `stand`, `squat`, `jump`).
+pub fn truth(stem: &str) -> Option<super::Truth> {
+    let t = TRIALS.iter().find(|t| t.scenario.name() == stem)?;
+    Some(generate(t.scenario, &options(t)).truth)
+}
+
+/// Signed errors in ms of detected event times against true ones (`(side, time)`, side 0 =
+/// left): each detected event against the nearest true event of the same side.
+fn errors_ms(detected: &[(usize, f64)], truth: &[(usize, f64)]) -> Vec<f64> {
+    detected
+        .iter()
+        .filter_map(|&(side, t)| {
+            truth
+                .iter()
+                .filter(|e| e.0 == side)
+                .map(|e| t - e.1)
+                .min_by(|a, b| a.abs().total_cmp(&b.abs()))
+                .map(|e| 1e3 * e)
+        })
+        .collect()
+}
+
+fn error_summary(what: &str, e: &[f64]) -> String {
+    if e.is_empty() {
+        return format!("{what}: none found");
+    }
+    let mean = e.iter().sum::<f64>() / e.len() as f64;
+    let lo = e.iter().copied().fold(f64::INFINITY, f64::min);
+    let hi = e.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    format!(
+        "{what} {mean:+.0} ms (from {lo:+.0} to {hi:+.0} ms, {} events)",
+        e.len()
+    )
+}
+
+/// One line: the events a run of the demo trial `stem` found against the model's truth.
+/// `steps` are the detected (side, heel strike, toe-off) times of a walk (side 0 = left); the
+/// jump and the squat are read from their figures. Negative errors are early.
+pub fn event_error_line(
+    stem: &str,
+    figures: &crate::movement::MovementFigures,
+    steps: &[(usize, f64, Option<f64>)],
+) -> Option<String> {
+    let truth = truth(stem)?;
+    if truth.walk_speed_m_s.is_some() {
+        let hs: Vec<(usize, f64)> = steps.iter().map(|s| (s.0, s.1)).collect();
+        let to: Vec<(usize, f64)> = steps.iter().filter_map(|s| Some((s.0, s.2?))).collect();
+        let true_hs: Vec<(usize, f64)> = (0..2)
+            .flat_map(|side| truth.contacts[side].iter().map(move |c| (side, c.0)))
+            .collect();
+        let true_to: Vec<(usize, f64)> = (0..2)
+            .flat_map(|side| truth.contacts[side].iter().map(move |c| (side, c.1)))
+            .collect();
+        return Some(format!(
+            "{stem}: events against the model's truth: {}; {}",
+            error_summary("heel strikes", &errors_ms(&hs, &true_hs)),
+            error_summary("toe-offs", &errors_ms(&to, &true_to))
+        ));
+    }
+    if let Some((on, off)) = truth.flight_s {
+        let j = figures.jump.as_ref()?;
+        return Some(format!(
+            "{stem}: events against the model's truth: take-off {:+.1} ms, landing {:+.1} ms, flight time {:+.1} ms",
+            1e3 * (j.takeoff_s - on),
+            1e3 * (j.landing_s - off),
+            1e3 * (j.flight_time_s - (off - on))
+        ));
+    }
+    if !truth.reps_s.is_empty() {
+        let bottoms: Vec<(usize, f64)> = figures.reps.iter().map(|r| (0, r.bottom_s)).collect();
+        let true_bottoms: Vec<(usize, f64)> = truth.reps_s.iter().map(|r| (0, r.1)).collect();
+        return Some(format!(
+            "{stem}: events against the model's truth: {} of {} repetitions, {}",
+            figures.reps.len(),
+            truth.reps_s.len(),
+            error_summary("bottoms", &errors_ms(&bottoms, &true_bottoms))
+        ));
+    }
+    None
+}

@@ -1,6 +1,7 @@
-//! `series`: three panels over one time axis (seconds): CoM speed and its components, BoS
-//! margin and MoS with the outside-BoS spans shaded, CoM height above the floor; gait events as
-//! vertical marks in every panel.
+//! `series`: three panels over one time axis (seconds): CoM speed and its components; the
+//! margins (walking: the AP and ML MoS of Hof et al. 2005, J Biomech 38:1-8; otherwise the BoS
+//! margin and the omnidirectional MoS with the outside-BoS spans shaded); CoM height above the
+//! floor; gait events (heel strikes solid, toe-offs dashed) as vertical marks in every panel.
 
 use super::style::{self, Chart, Context, Entry, Swatch};
 use super::{map_axis, Area, RenderError, SeriesView};
@@ -159,18 +160,40 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         ),
     ];
     let s = &r.support;
-    let margins = vec![
-        Line::new(
-            series_of(r, |i| s.bos_margin_m.get(i).copied().flatten()),
-            Swatch::Line(style::COM, 2),
-            "BoS margin of the CoM",
-        ),
-        Line::new(
-            series_of(r, |i| s.mos_m.get(i).copied().flatten()),
-            Swatch::Line(style::XCOM, 2),
-            "MoS (XCoM, Hof 2005)",
-        ),
-    ];
+    // Walking: the AP and ML margins gait labs read; the omnidirectional margin and its
+    // "outside" shading only where they mean something (standing, lifts): in single stance
+    // the CoM is outside the one-foot BoS by design.
+    let walking = r.movement.movement == crate::movement::Movement::Walk;
+    let walking_margins = || {
+        vec![
+            Line::new(
+                series_of(r, |i| s.mos_ap_m.get(i).copied().flatten()),
+                Swatch::Line(style::XCOM, 2),
+                "MoS AP (XCoM to the front BoS edge)",
+            ),
+            Line::new(
+                series_of(r, |i| s.mos_ml_m.get(i).copied().flatten()),
+                Swatch::Dashed(style::COM, 2),
+                "MoS ML (XCoM to the lateral BoS edge)",
+            ),
+        ]
+    };
+    let margins = if walking {
+        walking_margins()
+    } else {
+        vec![
+            Line::new(
+                series_of(r, |i| s.bos_margin_m.get(i).copied().flatten()),
+                Swatch::Line(style::COM, 2),
+                "BoS margin of the CoM",
+            ),
+            Line::new(
+                series_of(r, |i| s.mos_m.get(i).copied().flatten()),
+                Swatch::Line(style::XCOM, 2),
+                "MoS (XCoM, Hof 2005)",
+            ),
+        ]
+    };
     let height = vec![Line::new(
         series_of(r, |i| {
             r.com
@@ -240,7 +263,7 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         style::draw_axes(&mut chart, last.then_some("time (s)"), y_desc)?;
         let mut legend: Vec<Entry> = Vec::new();
         let mut notes: Vec<Entry> = Vec::new();
-        if k == 1 {
+        if k == 1 && !walking {
             let spans = outside_spans(r);
             chart.draw_series(spans.iter().map(|&(a, b)| {
                 Rectangle::new(
@@ -262,6 +285,26 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             )])?;
         }
         draw_events(&mut chart, r, &y)?;
+        if k == 1 && walking {
+            // The AP MoS at each heel strike (the figure of steps.csv), as rings.
+            let rings: Vec<(f64, f64)> = s
+                .steps
+                .iter()
+                .filter_map(|st| Some((st.heel_strike_s, st.mos_ap_heel_strike_m?)))
+                .filter(|p| y.contains(&p.1))
+                .collect();
+            chart.draw_series(
+                rings
+                    .iter()
+                    .map(|&p| Circle::new(p, 5, style::XCOM.stroke_width(2))),
+            )?;
+            if !rings.is_empty() {
+                notes.push(Entry::new(
+                    Swatch::Ring(style::XCOM),
+                    "AP MoS at heel strike",
+                ));
+            }
+        }
         for line in lines.iter() {
             for run in &line.runs {
                 let run = style::thin_series(run.clone(), columns);
@@ -283,7 +326,16 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         if range.is_none() {
             style::draw_note(&chart, empty_note)?;
         }
-        if k == 1 && range.is_some() {
+        if k == 1 && range.is_some() && walking {
+            legend.push(Entry::new(
+                Swatch::Line(style::INK, 1),
+                "zero: XCoM on the BoS edge (Hof 2005)",
+            ));
+            legend.push(Entry::new(
+                Swatch::Note,
+                "all-round margin: standing and lifts only",
+            ));
+        } else if k == 1 && range.is_some() {
             legend.push(Entry::new(
                 Swatch::Line(style::INK, 1),
                 "zero: on the BoS edge, below it outside",
