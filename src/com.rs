@@ -1,7 +1,9 @@
 //! Stage 4, center of mass: segment CoMs, the mass-weighted whole-body average, subsystem
 //! (group) CoMs, external loads, and the extrapolated CoM.
 //!
-//! - Segment CoM: `r = origin + f (other - origin)`, f the table's CoM fraction (DESIGN.md 5).
+//! - Segment CoM: `r = origin + f (other - origin)`, f the table's CoM fraction (DESIGN.md 5);
+//!   for a table in segment frames (Dumas, Cheze & Verriest 2007, J Biomech 40:543), the 3-D
+//!   offset in the segment's ISB frame ([`crate::body::frames`]).
 //! - Whole body: `R = sum(m_i r_i) / sum(m_i)` over all segments (and loads for the system CoM),
 //!   dividing by the actual sum of the masses (reference/segment-tables.md 5). A frame where any
 //!   needed segment or load is missing has no CoM; it is never re-weighted.
@@ -217,11 +219,12 @@ impl ComModel {
         for s in &body.segments {
             let origin = points.get(s.origin.id).copied().flatten();
             let other = points.get(s.other.id).copied().flatten();
-            seg.push(
-                origin
+            seg.push(match &s.frame {
+                Some(f) => f.com(|id| points.get(id).copied().flatten()),
+                None => origin
                     .zip(other)
                     .map(|(a, b)| segment_com(a, b, s.com_fraction)),
-            );
+            });
         }
         let body_com = weighted_average(
             body.segments

@@ -12,6 +12,7 @@
 //! axis (mid-shoulder to mid-hip), at de Leva's (1996, Table 4) mean segment lengths scaled by
 //! stature; the table's own CoM fractions then place the arm segments. Reported as a warning.
 
+use super::frames::{FrameCom, JointDef};
 use super::joints::{self, PelvisFrame, P};
 use super::vocabulary::{self, Side};
 use crate::anthropometry::{SegmentKind, SegmentTable, Sex};
@@ -70,6 +71,8 @@ enum Def {
         bottom: PointId,
         distance_m: f64,
     },
+    /// A joint center of a table in segment frames ([`super::frames`]).
+    Joint(JointDef),
 }
 
 /// One segment of the model.
@@ -86,6 +89,9 @@ pub struct Segment {
     pub com_fraction: f64,
     /// The table row's endpoint key (`hip_jc-knee_jc`).
     pub row_key: String,
+    /// The CoM as a 3-D offset in the segment's frame (tables in segment frames); when set, it
+    /// places the CoM instead of `com_fraction`.
+    pub frame: Option<FrameCom>,
 }
 
 /// A segment endpoint: its name and its point in the model.
@@ -161,12 +167,14 @@ impl BodyModel {
         optional: &[&str],
     ) -> Result<BodyModel, LandmarkError> {
         let mut r = Resolver::new(labels, file, config, subject);
+        r.thorax_shoulder = table.has_frames();
         let mut segments = Vec::new();
         let trunk_parts = config
             .endpoints
             .get(&SegmentKind::Trunk)
             .is_some_and(|k| k == "parts");
-        let kinds: Vec<SegmentKind> = SegmentKind::WHOLE_BODY
+        let kinds: Vec<SegmentKind> = table
+            .body_segments()
             .iter()
             .flat_map(|&k| {
                 if k == SegmentKind::Trunk && trunk_parts {
@@ -222,6 +230,17 @@ impl BodyModel {
                 let other_name = full(&row.other);
                 let origin = r.resolve(&origin_name)?;
                 let other = r.resolve(&other_name)?;
+                let frame = match row.com_frame {
+                    Some(offset) => Some(r.frame_com(
+                        &full(kind.name()),
+                        kind,
+                        side,
+                        origin,
+                        other,
+                        offset,
+                    )?),
+                    None => None,
+                };
                 segments.push(Segment {
                     name: full(kind.name()),
                     kind,
@@ -237,6 +256,7 @@ impl BodyModel {
                     mass_kg: row.mass_fraction * subject.mass_kg,
                     com_fraction: row.com_fraction,
                     row_key: row.key(),
+                    frame,
                 });
             }
         }
@@ -403,6 +423,7 @@ impl BodyModel {
                         .map(|down| b + down * *distance_m),
                     _ => None,
                 },
+                Def::Joint(joint) => joint.evaluate(get),
             };
             out.push(value);
         }
@@ -467,17 +488,19 @@ fn de_leva_arm_lengths_m(sex: Sex) -> [f64; 5] {
 }
 
 /// Builds point definitions on demand, in dependency order.
-struct Resolver<'a> {
+pub(super) struct Resolver<'a> {
     labels: HashMap<&'a str, usize>,
     all_labels: &'a [String],
     file: &'a str,
     config: &'a Config,
-    subject: &'a Subject,
+    pub(super) subject: &'a Subject,
     defs: Vec<Def>,
     names: Vec<String>,
     ids: HashMap<String, PointId>,
     visiting: Vec<String>,
-    warnings: Vec<Warning>,
+    pub(super) warnings: Vec<Warning>,
+    /// Shoulder JCs by the thorax regression of [`super::frames`] (tables in segment frames).
+    thorax_shoulder: bool,
 }
 
 impl<'a> Resolver<'a> {
@@ -497,7 +520,17 @@ impl<'a> Resolver<'a> {
             ids: HashMap::new(),
             visiting: Vec::new(),
             warnings: Vec::new(),
+            thorax_shoulder: false,
         }
+    }
+
+    /// Whether a landmark is a marker of the trial or a `[virtual]` definition.
+    pub(super) fn is_available(&self, name: &str) -> bool {
+        self.label_index(name).is_some() || self.config.virtual_landmarks.contains_key(name)
+    }
+
+    pub(super) fn push_joint(&mut self, name: &str, joint: JointDef) -> PointId {
+        self.push(name, Def::Joint(joint))
     }
 
     /// The label a landmark is looked up under: the `[landmarks]` map, else its own name.
@@ -538,7 +571,7 @@ impl<'a> Resolver<'a> {
     }
 
     /// Resolves a point by name (see the module doc for the order of the rules).
-    fn resolve(&mut self, name: &str) -> Result<PointId, LandmarkError> {
+    pub(super) fn resolve(&mut self, name: &str) -> Result<PointId, LandmarkError> {
         if let Some(&id) = self.ids.get(name) {
             return Ok(id);
         }
@@ -601,6 +634,11 @@ impl<'a> Resolver<'a> {
             (Some(side), "elbow_jc") => self.epicondyle_jc(name, side, Joint::Elbow),
             (Some(side), "wrist_jc") => self.wrist_jc(name, side),
             (Some(side), "shoulder_jc") => {
+                if self.thorax_shoulder {
+                    if let Some(id) = self.thorax_shoulder_jc(name, side)? {
+                        return Ok(id);
+                    }
+                }
                 let acromion = self.resolve(&side.name("acromion"))?;
                 let other = self.resolve(&other(side).name("acromion"))?;
                 let mid_hip = self.resolve("mid_hip")?;
@@ -621,6 +659,24 @@ impl<'a> Resolver<'a> {
                 let l = self.resolve("l_hip_jc")?;
                 let r = self.resolve("r_hip_jc")?;
                 Ok(self.push(name, Def::Midpoint(l, r)))
+            }
+            (None, "cervical_jc") => self.cervical_jc(name),
+            (None, "lumbar_jc") => self.lumbar_jc(name),
+            (Some(side), "mid_metatarsal") => {
+                let (mt1, mt5, mt2) = (side.name("mt1"), side.name("mt5"), side.name("mt2"));
+                if self.is_available(&mt1) && self.is_available(&mt5) {
+                    let a = self.resolve(&mt1)?;
+                    let b = self.resolve(&mt5)?;
+                    Ok(self.push(name, Def::Midpoint(a, b)))
+                } else if self.is_available(&mt2) {
+                    let a = self.resolve(&mt2)?;
+                    self.warnings.push(Warning::Approximation {
+                        what: format!("{name} taken at `{mt2}` (no {mt1} and {mt5})"),
+                    });
+                    Ok(self.push(name, Def::Mean(vec![a])))
+                } else {
+                    Err(self.missing(&mt1, &format!("the {name} needs {mt1} and {mt5}, or {mt2}")))
+                }
             }
             (None, "mid_shoulder") => {
                 let l = self.resolve("l_shoulder_jc")?;
