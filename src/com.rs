@@ -12,6 +12,8 @@
 //!
 //! Units: metres, kilograms, seconds.
 
+pub mod spread;
+
 use crate::body::model::PointId;
 use crate::body::{BodyModel, LandmarkError};
 use crate::config::{Config, Group, LoadPosition};
@@ -215,23 +217,7 @@ impl ComModel {
         markers: &[Option<[f64; 3]>],
         seg: &mut Vec<Option<P>>,
     ) -> FrameCom {
-        seg.clear();
-        for s in &body.segments {
-            let origin = points.get(s.origin.id).copied().flatten();
-            let other = points.get(s.other.id).copied().flatten();
-            seg.push(match &s.frame {
-                Some(f) => f.com(|id| points.get(id).copied().flatten()),
-                None => origin
-                    .zip(other)
-                    .map(|(a, b)| segment_com(a, b, s.com_fraction)),
-            });
-        }
-        let body_com = weighted_average(
-            body.segments
-                .iter()
-                .zip(seg.iter())
-                .map(|(s, c)| (s.mass_kg, *c)),
-        );
+        let body_com = body_com(body, points, seg);
         let mut loads = Vec::with_capacity(self.loads.len());
         for l in &self.loads {
             let p = match &l.source {
@@ -269,6 +255,28 @@ impl ComModel {
             groups,
         }
     }
+}
+
+/// The CoM of each segment of `body` in one frame into `seg` (a reused buffer), and the body
+/// CoM: their mass-weighted average. `points` is the body model's evaluation of the frame.
+pub fn body_com(body: &BodyModel, points: &[Option<P>], seg: &mut Vec<Option<P>>) -> Option<P> {
+    seg.clear();
+    for s in &body.segments {
+        let origin = points.get(s.origin.id).copied().flatten();
+        let other = points.get(s.other.id).copied().flatten();
+        seg.push(match &s.frame {
+            Some(f) => f.com(|id| points.get(id).copied().flatten()),
+            None => origin
+                .zip(other)
+                .map(|(a, b)| segment_com(a, b, s.com_fraction)),
+        });
+    }
+    weighted_average(
+        body.segments
+            .iter()
+            .zip(seg.iter())
+            .map(|(s, c)| (s.mass_kg, *c)),
+    )
 }
 
 /// The combination of one frame.

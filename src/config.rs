@@ -40,6 +40,8 @@ pub struct RawModel {
     pub arms: Option<String>,
     #[serde(default)]
     pub endpoints: BTreeMap<String, String>,
+    /// Also compute the CoM under every table and hip method, and their spread per frame.
+    pub spread: Option<bool>,
 }
 
 /// A cut-off in Hz or the word `"none"`.
@@ -298,6 +300,8 @@ pub struct Config {
     pub loads: Vec<Load>,
     pub groups: Vec<Group>,
     pub virtual_landmarks: BTreeMap<String, VirtualDef>,
+    /// Compute the spread of the CoM between models (`[model] spread`, `--spread`).
+    pub spread: bool,
 }
 
 /// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
@@ -529,6 +533,7 @@ impl Config {
             loads,
             groups,
             virtual_landmarks,
+            spread: raw.model.spread.unwrap_or(false),
         })
     }
 
@@ -656,10 +661,11 @@ up_axis = "z"         # vertical axis of the lab: "z", "y", "x", "-z", "-y" or "
 # l_asis = "LeftASIS"
 
 [model]
-table = "de-leva-1996"   # "de-leva-1996", "dempster-winter" or the path of a table CSV
+table = "de-leva-1996"   # "de-leva-1996", "dempster-winter", "dumas-2007" or the path of a table CSV
 hip = "harrington-2007"  # "harrington-2007", "bell-1990", "hara-2016" or "given"
 arms = "required"        # "required" or "hanging" (arms placed below the shoulders when unmarked)
 # endpoints = { trunk = "c7-mid_hip", head = "head_top-mid_gonion" }  # alternative table rows
+spread = false           # also the CoM under every table and hip method, and their spread per frame
 
 [filter]
 cutoff_hz = 6.0       # zero-lag Butterworth cut-off in Hz, or "none"

@@ -166,6 +166,21 @@ impl BodyModel {
         table: &SegmentTable,
         optional: &[&str],
     ) -> Result<BodyModel, LandmarkError> {
+        let kinds = table.body_segments();
+        BodyModel::build_segments(labels, file, config, subject, table, optional, &kinds)
+    }
+
+    /// [`BodyModel::build`] for the listed segments only (a subsystem such as the legs, for
+    /// comparing models on a marker set that lacks the rest).
+    pub fn build_segments(
+        labels: &[String],
+        file: &str,
+        config: &Config,
+        subject: &Subject,
+        table: &SegmentTable,
+        optional: &[&str],
+        body_segments: &[SegmentKind],
+    ) -> Result<BodyModel, LandmarkError> {
         let mut r = Resolver::new(labels, file, config, subject);
         r.thorax_shoulder = table.has_frames();
         let mut segments = Vec::new();
@@ -173,8 +188,7 @@ impl BodyModel {
             .endpoints
             .get(&SegmentKind::Trunk)
             .is_some_and(|k| k == "parts");
-        let kinds: Vec<SegmentKind> = table
-            .body_segments()
+        let kinds: Vec<SegmentKind> = body_segments
             .iter()
             .flat_map(|&k| {
                 if k == SegmentKind::Trunk && trunk_parts {

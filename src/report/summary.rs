@@ -93,6 +93,9 @@ pub struct Summary {
     pub support: SupportFigures,
     pub steps: Vec<StepMeans>,
     pub lift: Option<LiftFigures>,
+    /// The CoM's spread between models (`--spread`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub spread: Option<crate::com::spread::SpreadFigures>,
     pub warnings: Vec<String>,
     pub warning_details: Vec<Warning>,
     pub provenance: Provenance,
@@ -242,6 +245,7 @@ impl Summary {
             support,
             steps,
             lift,
+            spread: r.spread.as_ref().map(|s| s.figures()),
             warnings: warnings.iter().map(|w| w.to_string()).collect(),
             warning_details: warnings,
             provenance: Provenance {
