@@ -6,7 +6,7 @@
 //! J Biomech 29:1223, Table 4; Dempster 1955 via Winter 2009, Table 4.1; Dumas, Cheze &
 //! Verriest 2007, J Biomech 40:543, Table 2; and the configured table when it is a file) crossed
 //! with every hip JC regression (Harrington et al. 2007, J Biomech 40:595; Bell, Pedersen &
-//! Brand 1990, Hum Mov Sci 9:7 (from memory); Hara et al. 2016, Sci Rep 6:37707), and from them:
+//! Brand 1990, J Biomech 23:617; Hara et al. 2016, Sci Rep 6:37707), and from them:
 //! - `spread_m`: the largest distance between any two model CoMs (metres);
 //! - `axes_m`: per lab axis, the largest difference between any two models' coordinates;
 //! - `low_m` / `high_m`: per axis the smallest and largest model coordinate (the plotted band);
