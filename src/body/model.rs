@@ -674,6 +674,7 @@ impl<'a> Resolver<'a> {
                 let r = self.resolve("r_hip_jc")?;
                 Ok(self.push(name, Def::Midpoint(l, r)))
             }
+            (Some(side), "ankle_med") => self.medial_malleolus(name, side),
             (None, "cervical_jc") => self.cervical_jc(name),
             (None, "lumbar_jc") => self.lumbar_jc(name),
             (Some(side), "mid_metatarsal") => {
@@ -836,6 +837,42 @@ impl<'a> Resolver<'a> {
         let toward_to = self.resolve(&other(side).name(toward_stem))?;
         self.warnings.push(Warning::Approximation {
             what: format!("{name} placed {offset_m:.3} m medial to {lat_name} ({width_key}/2 + marker radius)"),
+        });
+        Ok(self.push(
+            name,
+            Def::Medial {
+                lateral,
+                axis_from,
+                axis_to: lateral,
+                toward_from,
+                toward_to,
+                offset_m,
+            },
+        ))
+    }
+
+    /// The medial malleolus when only the lateral one is marked: the ankle width plus two
+    /// marker radii medial to the lateral marker, so that the malleolus midpoint is the ankle JC
+    /// of [`Resolver::epicondyle_jc`] (DESIGN.md 5; common practice, no source).
+    fn medial_malleolus(&mut self, name: &str, side: Side) -> Result<PointId, LandmarkError> {
+        let lat_name = side.name("ankle_lat");
+        if !self.is_available(&lat_name) {
+            return Err(self.missing(name, &Self::map_hint(name)));
+        }
+        let Some(width) = self.subject.ankle_width_m else {
+            return Err(LandmarkError::NeedsMeasurement {
+                landmark: name.to_string(),
+                what: format!("a marker, or `{lat_name}` and the ankle width"),
+                hint: format!("map {name}, or give ankle_width_m (and marker_radius_m) in the subject"),
+            });
+        };
+        let offset_m = width + 2.0 * self.subject.marker_radius_m.unwrap_or(0.0);
+        let lateral = self.resolve(&lat_name)?;
+        let axis_from = self.resolve(&side.name("knee_jc"))?;
+        let toward_from = self.resolve(&side.name("asis"))?;
+        let toward_to = self.resolve(&other(side).name("asis"))?;
+        self.warnings.push(Warning::Approximation {
+            what: format!("{name} placed {offset_m:.3} m medial to {lat_name} (ankle_width_m + 2 marker radii)"),
         });
         Ok(self.push(
             name,
