@@ -577,6 +577,30 @@ pub struct Subject {
     pub ankle_width_m: Option<f64>,
     pub elbow_width_m: Option<f64>,
     pub wrist_width_m: Option<f64>,
+    /// `[geometry]`: measured segment shapes for `[model] table = "geometric"`, by segment name
+    /// (`thigh` for both sides, or `l_thigh` / `r_thigh`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub geometry: Option<BTreeMap<String, SegmentGeometry>>,
+}
+
+/// One segment's measured shape: its length along the table's endpoints and the perimeter and
+/// width at levels along it (see anthropometry/README.md, geometric model).
+#[derive(Clone, Debug, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct SegmentGeometry {
+    /// Origin-to-other endpoint length, metres.
+    pub length_m: f64,
+    /// Levels from the origin endpoint (`at` = 0) to the other (`at` = 1).
+    pub levels: Vec<GeometryLevel>,
+}
+
+/// A cross-section of a segment: perimeter and width (metres) at a share `at` of its length.
+#[derive(Clone, Debug, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct GeometryLevel {
+    pub at: f64,
+    pub perimeter_m: f64,
+    pub width_m: f64,
 }
 
 impl Subject {
@@ -594,6 +618,7 @@ impl Subject {
             ankle_width_m: None,
             elbow_width_m: None,
             wrist_width_m: None,
+            geometry: None,
         }
     }
 

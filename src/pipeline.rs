@@ -524,7 +524,11 @@ pub struct Setup {
 impl Setup {
     /// Loads the table the configuration names for the subject's sex.
     pub fn new(config: Config, subject: Subject) -> Result<Setup, Error> {
-        let table = SegmentTable::load(&config.table, subject.sex)?;
+        let table = if config.table == "geometric" {
+            crate::body::geometric::table(&subject)?
+        } else {
+            SegmentTable::load(&config.table, subject.sex)?
+        };
         Ok(Setup {
             config,
             subject,

@@ -283,6 +283,12 @@ impl SegmentTable {
 
     /// A built-in table by name, or a user table file when `name_or_path` is not a built-in name.
     pub fn load(name_or_path: &str, sex: Sex) -> Result<SegmentTable, TableError> {
+        if name_or_path == "geometric" {
+            return Err(TableError::Table {
+                table: name_or_path.to_string(),
+                message: "built from the subject's [geometry] measurements; run a trial with --subject S.toml and [model] table = \"geometric\"".to_string(),
+            });
+        }
         if BUILTIN.contains(&name_or_path) {
             return SegmentTable::builtin(name_or_path, sex);
         }

@@ -4,7 +4,8 @@
 //! Input: the filled and low-passed markers of a trial, its configuration and subject.
 //! Output: per frame, the CoM under every built-in table the markers allow (de Leva 1996,
 //! J Biomech 29:1223, Table 4; Dempster 1955 via Winter 2009, Table 4.1; Dumas, Cheze &
-//! Verriest 2007, J Biomech 40:543, Table 2; and the configured table when it is a file) crossed
+//! Verriest 2007, J Biomech 40:543, Table 2; the subject's own segments when the subject file
+//! has `[geometry]` ([`crate::body::geometric`]); and the configured table when it is a file) crossed
 //! with every hip JC regression (Harrington et al. 2007, J Biomech 40:595; Bell, Pedersen &
 //! Brand 1990, J Biomech 23:617; Hara et al. 2016, Sci Rep 6:37707), and from them:
 //! - `spread_m`: the largest distance between any two model CoMs (metres);
@@ -79,8 +80,11 @@ pub struct SpreadFigures {
 }
 
 /// The (table, hip method) pairs to compare for this trial.
-fn variants(config: &Config, labels: &[String]) -> Vec<(String, HipMethod)> {
+fn variants(config: &Config, subject: &Subject, labels: &[String]) -> Vec<(String, HipMethod)> {
     let mut tables: Vec<String> = BUILTIN.iter().map(|s| s.to_string()).collect();
+    if subject.geometry.is_some() && config.table != "geometric" {
+        tables.push("geometric".to_string());
+    }
     if !tables.contains(&config.table) {
         tables.push(config.table.clone());
     }
@@ -111,9 +115,14 @@ fn build_models(
 ) -> (Vec<(String, BodyModel)>, Vec<String>) {
     let mut models = Vec::new();
     let mut skipped = Vec::new();
-    for (table_name, hip) in variants(config, &markers.labels) {
+    for (table_name, hip) in variants(config, subject, &markers.labels) {
         let label = format!("{table_name} + {}", hip.name());
-        let table = match SegmentTable::load(&table_name, subject.sex) {
+        let table = if table_name == "geometric" {
+            crate::body::geometric::table(subject)
+        } else {
+            SegmentTable::load(&table_name, subject.sex)
+        };
+        let table = match table {
             Ok(t) => t,
             Err(e) => {
                 skipped.push(format!("{label}: {e}"));
