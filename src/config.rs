@@ -686,7 +686,7 @@ up_axis = "z"         # vertical axis of the lab: "z", "y", "x", "-z", "-y" or "
 # l_asis = "LeftASIS"
 
 [model]
-table = "de-leva-1996"   # "de-leva-1996", "dempster-winter", "dumas-2007" or the path of a table CSV
+table = "de-leva-1996"   # "de-leva-1996", "dempster-winter", "dumas-2007", "geometric" or a table CSV path
 hip = "harrington-2007"  # "harrington-2007", "bell-1990", "hara-2016" or "given"
 arms = "required"        # "required" or "hanging" (arms placed below the shoulders when unmarked)
 # endpoints = { trunk = "c7-mid_hip", head = "head_top-mid_gonion" }  # alternative table rows

@@ -150,7 +150,10 @@ fn each_approximation_is_a_warning() {
         "l_shoulder_jc estimated",
         "r_hand: length to the 3rd metacarpal head",
     ] {
-        assert!(text.iter().any(|w| w.contains(needle)), "{needle}: {text:?}");
+        assert!(
+            text.iter().any(|w| w.contains(needle)),
+            "{needle}: {text:?}"
+        );
     }
     // Standing marker body: CoM between 53 and 59 % of a 1.77 m stature would need a real
     // stature; here only check the CoM lies between the hip and shoulder heights.

@@ -22,7 +22,8 @@ fn points() -> Vec<(&'static str, P)> {
         ("jugular", [0.05, 0.0, 1.46]),
     ];
     for (side, y) in [("l", 1.0), ("r", -1.0)] {
-        let name = |stem: &str| -> &'static str { Box::leak(format!("{side}_{stem}").into_boxed_str()) };
+        let name =
+            |stem: &str| -> &'static str { Box::leak(format!("{side}_{stem}").into_boxed_str()) };
         p.push((name("shoulder_jc"), [0.0, 0.18 * y, 1.42]));
         p.push((name("elbow_jc"), [0.0, 0.19 * y, 1.14]));
         p.push((name("wrist_jc"), [0.02, 0.19 * y, 0.87]));
@@ -63,9 +64,19 @@ fn a_body_of_known_solids_gives_the_exact_com() {
     let pts = points();
     let mid_hip = {
         let (l, r) = (at(&pts, "l_hip_jc"), at(&pts, "r_hip_jc"));
-        [(l[0] + r[0]) / 2.0, (l[1] + r[1]) / 2.0, (l[2] + r[2]) / 2.0]
+        [
+            (l[0] + r[0]) / 2.0,
+            (l[1] + r[1]) / 2.0,
+            (l[2] + r[2]) / 2.0,
+        ]
     };
-    let point = |name: &str| if name == "mid_hip" { mid_hip } else { at(&pts, name) };
+    let point = |name: &str| {
+        if name == "mid_hip" {
+            mid_hip
+        } else {
+            at(&pts, name)
+        }
+    };
     // The subject file, with each segment's measured length equal to its landmark distance.
     let mut toml = String::from("mass_kg = 70.0\nheight_m = 1.75\nsex = \"male\"\n");
     let (mut sum, mut mass) = ([0.0; 3], 0.0);
@@ -110,7 +121,11 @@ fn a_body_of_known_solids_gives_the_exact_com() {
     .unwrap();
     let setup = Setup::new(Config::from_raw(&raw, "test").unwrap(), subject).unwrap();
     assert_abs_diff_eq!(setup.table.mass_sum * 70.0, mass, epsilon = 1e-9);
-    assert!(setup.table.population.contains("predicted body mass"), "{}", setup.table.population);
+    assert!(
+        setup.table.population.contains("predicted body mass"),
+        "{}",
+        setup.table.population
+    );
     let result = run_trial(
         &static_trial(&pts, 5),
         &setup.config,
@@ -136,10 +151,14 @@ fn a_missing_segment_or_centimetres_are_errors_naming_the_fix() {
     let path = dir.path().join("s.toml");
     std::fs::write(&path, base).unwrap();
     let subject = Subject::from_path(&path).unwrap();
-    let e = gravline::body::geometric::table(&subject).unwrap_err().to_string();
+    let e = gravline::body::geometric::table(&subject)
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("[geometry] has no `trunk`"), "{e}");
     std::fs::write(&path, base.replace("perimeter_m = 0.5", "perimeter_m = 50")).unwrap();
     let subject = Subject::from_path(&path).unwrap();
-    let e = gravline::body::geometric::table(&subject).unwrap_err().to_string();
+    let e = gravline::body::geometric::table(&subject)
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("not centimetres"), "{e}");
 }

@@ -38,7 +38,10 @@ fn standing_com_height_under_each_table_and_the_spread() {
     let mut heights = Vec::new();
     for table in ["de-leva-1996", "dempster-winter", "dumas-2007"] {
         let text = format!("{STANDING_CONFIG}\n");
-        let mut cfg = config(&text.replace("[model]", &format!("[model]\ntable = \"{table}\"\nspread = true")));
+        let mut cfg = config(&text.replace(
+            "[model]",
+            &format!("[model]\ntable = \"{table}\"\nspread = true"),
+        ));
         cfg.table = table.to_string();
         let setup = Setup::new(cfg, subject.clone()).unwrap();
         let out = tempfile::tempdir().unwrap();
@@ -74,8 +77,14 @@ fn standing_com_height_under_each_table_and_the_spread() {
         );
     }
     let lo = heights.iter().map(|h| h.1).fold(f64::INFINITY, f64::min);
-    let hi = heights.iter().map(|h| h.1).fold(f64::NEG_INFINITY, f64::max);
-    eprintln!("standing: CoM heights {heights:?}; spread of the three heights {:.1} mm", (hi - lo) * 1e3);
+    let hi = heights
+        .iter()
+        .map(|h| h.1)
+        .fold(f64::NEG_INFINITY, f64::max);
+    eprintln!(
+        "standing: CoM heights {heights:?}; spread of the three heights {:.1} mm",
+        (hi - lo) * 1e3
+    );
 }
 
 /// The walk has markers on the pelvis and legs only: no table resolves the whole body, and the
@@ -92,7 +101,8 @@ fn walk_lower_body_spread_of_the_legs() {
     // suggest) only scales the masses, not the CoMs.
     let subject = Subject::new(72.0, 1.75, Sex::Male);
     let trial = gravline::trial::read_trial(&dir.join("trial.csv"), &cfg.read_options()).unwrap();
-    let (mut markers, _) = gravline::signal::fill_gaps(&trial.markers, &trial.times_s, cfg.max_gap_s);
+    let (mut markers, _) =
+        gravline::signal::fill_gaps(&trial.markers, &trial.times_s, cfg.max_gap_s);
     gravline::signal::low_pass(&mut markers, trial.rate_hz, cfg.cutoff_hz.unwrap()).unwrap();
     let s = spread::compute(&markers, &trial.file, &cfg, &subject);
     assert_eq!(s.subsystem, "legs");
@@ -135,21 +145,34 @@ fn spread_is_the_largest_distance_between_the_tables() {
     for table in ["de-leva-1996", "dempster-winter", "dumas-2007"] {
         let cfg = config(&format!("{base}table = \"{table}\"\n"));
         let t = SegmentTable::load(table, Sex::Male).unwrap();
-        coms.push(run_trial(&trial, &cfg, &subject, &t, RunOptions::default()).unwrap().com[0].unwrap());
+        coms.push(
+            run_trial(&trial, &cfg, &subject, &t, RunOptions::default())
+                .unwrap()
+                .com[0]
+                .unwrap(),
+        );
     }
     let cfg = config(&format!("{base}spread = true\n"));
     let t = SegmentTable::load("de-leva-1996", Sex::Male).unwrap();
     let r = run_trial(&trial, &cfg, &subject, &t, RunOptions::default()).unwrap();
     let s = r.spread.unwrap();
     assert_eq!(s.models.len(), 3, "{:?}", s.models);
-    let d = |a: [f64; 3], b: [f64; 3]| ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2) + (a[2] - b[2]).powi(2)).sqrt();
-    let expected = d(coms[0], coms[1]).max(d(coms[0], coms[2])).max(d(coms[1], coms[2]));
+    let d = |a: [f64; 3], b: [f64; 3]| {
+        ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2) + (a[2] - b[2]).powi(2)).sqrt()
+    };
+    let expected = d(coms[0], coms[1])
+        .max(d(coms[0], coms[2]))
+        .max(d(coms[1], coms[2]));
     assert_abs_diff_eq!(s.spread_m[0].unwrap(), expected, epsilon = 1e-12);
     for k in 0..3 {
         let v: Vec<f64> = coms.iter().map(|c| c[k]).collect();
-        let range = v.iter().cloned().fold(f64::NEG_INFINITY, f64::max) - v.iter().cloned().fold(f64::INFINITY, f64::min);
+        let range = v.iter().cloned().fold(f64::NEG_INFINITY, f64::max)
+            - v.iter().cloned().fold(f64::INFINITY, f64::min);
         assert_abs_diff_eq!(s.axes_m[0].unwrap()[k], range, epsilon = 1e-12);
     }
     // A static body does not move: every axis range is zero, smaller than the spread.
-    assert!(r.warnings.iter().any(|w| w.to_string().starts_with("spread between models")));
+    assert!(r
+        .warnings
+        .iter()
+        .any(|w| w.to_string().starts_with("spread between models")));
 }

@@ -423,7 +423,11 @@ impl SegmentTable {
             };
             let mass_fraction = fraction(4)?;
             let com_frame = match frame_index {
-                Some(idx) if idx.iter().any(|&k| !record.get(k).unwrap_or("").trim().is_empty()) => {
+                Some(idx)
+                    if idx
+                        .iter()
+                        .any(|&k| !record.get(k).unwrap_or("").trim().is_empty()) =>
+                {
                     let mut c = [0.0; 3];
                     for (axis, &k) in idx.iter().enumerate() {
                         let text = record.get(k).unwrap_or("").trim();
@@ -431,7 +435,7 @@ impl SegmentTable {
                         let value: f64 = text.parse().map_err(|_| {
                             row_err(line, format!("column `{name}` is `{text}`, not a number"))
                         })?;
-                        if !(value.abs() <= 1.5) {
+                        if value.is_nan() || value.abs() > 1.5 {
                             return Err(row_err(
                                 line,
                                 format!("column `{name}` is {value}; give a share of the segment length (|value| <= 1.5)"),

@@ -177,7 +177,13 @@ impl JointDef {
                 jugular,
                 right: pair,
                 sex,
-            } => shoulder_jc(get(*acromion)?, get(*c7)?, get(*jugular)?, right(pair)?, *sex),
+            } => shoulder_jc(
+                get(*acromion)?,
+                get(*c7)?,
+                get(*jugular)?,
+                right(pair)?,
+                *sex,
+            ),
             JointDef::Lumbar {
                 l_asis,
                 r_asis,
@@ -281,10 +287,7 @@ fn axis_markers(kind: SegmentKind) -> (&'static [(&'static str, &'static str)], 
             &[("ankle_lat", "ankle_med"), ("knee_lat", "knee_med")],
             "asis",
         ),
-        SegmentKind::Foot => (
-            &[("mt5", "mt1"), ("ankle_lat", "ankle_med")],
-            "asis",
-        ),
+        SegmentKind::Foot => (&[("mt5", "mt1"), ("ankle_lat", "ankle_med")], "asis"),
         _ => (&[], "acromion"),
     }
 }
@@ -421,7 +424,9 @@ impl Resolver<'_> {
         let r_asis = self.resolve("r_asis")?;
         let mid_psis = self.resolve("mid_psis")?;
         self.warnings.push(Warning::Approximation {
-            what: format!("{name} estimated in the pelvis frame from the ASIS width (Dumas 2007 regression)"),
+            what: format!(
+                "{name} estimated in the pelvis frame from the ASIS width (Dumas 2007 regression)"
+            ),
         });
         let sex = self.subject.sex;
         Ok(self.push_joint(
@@ -496,16 +501,14 @@ mod tests {
     /// A frame is right-handed and orthonormal whatever the hint's tilt.
     #[test]
     fn frames_are_orthonormal() {
-        let f = SegmentFrame::from_long_axis(
-            P::zeros(),
-            P::new(0.1, 1.0, -0.2),
-            P::new(0.3, 0.2, 1.0),
-        )
-        .unwrap();
+        let f =
+            SegmentFrame::from_long_axis(P::zeros(), P::new(0.1, 1.0, -0.2), P::new(0.3, 0.2, 1.0))
+                .unwrap();
         assert_abs_diff_eq!(f.x.cross(&f.y), f.z, epsilon = 1e-12);
         assert_abs_diff_eq!(f.x.dot(&f.y), 0.0, epsilon = 1e-12);
-        let g = SegmentFrame::from_forward(P::zeros(), P::new(1.0, 0.0, 0.1), P::new(0.0, 0.0, 1.0))
-            .unwrap();
+        let g =
+            SegmentFrame::from_forward(P::zeros(), P::new(1.0, 0.0, 0.1), P::new(0.0, 0.0, 1.0))
+                .unwrap();
         assert_abs_diff_eq!(g.y, P::new(0.0, 1.0, 0.0), epsilon = 1e-12);
         assert_abs_diff_eq!(g.x.cross(&g.y), g.z, epsilon = 1e-12);
         assert!(SegmentFrame::from_long_axis(P::zeros(), P::y(), P::y()).is_none());

@@ -49,7 +49,13 @@ impl Stadium {
     pub fn from_perimeter_width(perimeter_m: f64, width_m: f64) -> (Stadium, bool) {
         let (p, w) = (perimeter_m, width_m);
         if p > PI * w {
-            return (Stadium { r: p / (2.0 * PI), t: 0.0 }, false);
+            return (
+                Stadium {
+                    r: p / (2.0 * PI),
+                    t: 0.0,
+                },
+                false,
+            );
         }
         if p < 2.0 * w {
             return (Stadium { r: 0.0, t: p / 4.0 }, true);
@@ -75,8 +81,9 @@ impl Stadium {
 pub fn stadium_solid(s0: Stadium, s1: Stadium, h: f64) -> (f64, f64) {
     let (r0, t0) = (s0.r, s0.t);
     let (a, b) = (s1.r - r0, s1.t - t0);
-    let v = h * (4.0 * (r0 * t0 + (r0 * b + t0 * a) / 2.0 + a * b / 3.0)
-        + PI * (r0 * r0 + r0 * a + a * a / 3.0));
+    let v = h
+        * (4.0 * (r0 * t0 + (r0 * b + t0 * a) / 2.0 + a * b / 3.0)
+            + PI * (r0 * r0 + r0 * a + a * a / 3.0));
     let m1 = h
         * h
         * (4.0 * (r0 * t0 / 2.0 + (r0 * b + t0 * a) / 3.0 + a * b / 4.0)
@@ -145,8 +152,7 @@ pub fn segment_solid(
                 l.at
             ));
         }
-        if !(l.perimeter_m >= 0.0 && l.perimeter_m < 3.0 && l.width_m >= 0.0 && l.width_m < 1.5)
-        {
+        if !(l.perimeter_m >= 0.0 && l.perimeter_m < 3.0 && l.width_m >= 0.0 && l.width_m < 1.5) {
             return Err(format!(
                 "[geometry] {name}: level {} perimeter {} m, width {} m; give metres, not centimetres",
                 i + 1,
@@ -187,9 +193,7 @@ pub fn segment_solid(
         moment += v * (z0 + c);
     }
     if volume <= 0.0 {
-        return Err(format!(
-            "[geometry] {name}: the levels enclose no volume"
-        ));
+        return Err(format!("[geometry] {name}: the levels enclose no volume"));
     }
     Ok(SegmentSolid {
         volume_m3: volume,
@@ -293,7 +297,11 @@ mod tests {
         assert_relative_eq!(c, 0.075, max_relative = 1e-12);
         let s = Stadium { r: 0.08, t: 0.06 };
         let (v, c) = stadium_solid(s, s, 0.20);
-        assert_relative_eq!(v, (4.0 * 0.08 * 0.06 + PI * 0.0064) * 0.20, max_relative = 1e-12);
+        assert_relative_eq!(
+            v,
+            (4.0 * 0.08 * 0.06 + PI * 0.0064) * 0.20,
+            max_relative = 1e-12
+        );
         assert_relative_eq!(c, 0.10, max_relative = 1e-12);
         // The same through the elliptic cone: a circular cylinder and cone.
         let (v, c) = elliptic_frustum(0.05, 0.05, 0.0, 0.0, 0.30);
@@ -340,9 +348,21 @@ mod tests {
     fn closed_forms_equal_numerical_integration() {
         let n = 200_000;
         let cases = [
-            (Stadium { r: 0.08, t: 0.06 }, Stadium { r: 0.07, t: 0.05 }, 0.20),
-            (Stadium { r: 0.10, t: 0.08 }, Stadium { r: 0.09, t: 0.09 }, 0.15),
-            (Stadium { r: 0.02, t: 0.0 }, Stadium { r: 0.06, t: 0.10 }, 0.40),
+            (
+                Stadium { r: 0.08, t: 0.06 },
+                Stadium { r: 0.07, t: 0.05 },
+                0.20,
+            ),
+            (
+                Stadium { r: 0.10, t: 0.08 },
+                Stadium { r: 0.09, t: 0.09 },
+                0.15,
+            ),
+            (
+                Stadium { r: 0.02, t: 0.0 },
+                Stadium { r: 0.06, t: 0.10 },
+                0.40,
+            ),
         ];
         for (s0, s1, h) in cases {
             let (mut v, mut m) = (0.0, 0.0);

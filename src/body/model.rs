@@ -245,14 +245,9 @@ impl BodyModel {
                 let origin = r.resolve(&origin_name)?;
                 let other = r.resolve(&other_name)?;
                 let frame = match row.com_frame {
-                    Some(offset) => Some(r.frame_com(
-                        &full(kind.name()),
-                        kind,
-                        side,
-                        origin,
-                        other,
-                        offset,
-                    )?),
+                    Some(offset) => {
+                        Some(r.frame_com(&full(kind.name()), kind, side, origin, other, offset)?)
+                    }
                     None => None,
                 };
                 segments.push(Segment {
@@ -863,7 +858,9 @@ impl<'a> Resolver<'a> {
             return Err(LandmarkError::NeedsMeasurement {
                 landmark: name.to_string(),
                 what: format!("a marker, or `{lat_name}` and the ankle width"),
-                hint: format!("map {name}, or give ankle_width_m (and marker_radius_m) in the subject"),
+                hint: format!(
+                    "map {name}, or give ankle_width_m (and marker_radius_m) in the subject"
+                ),
             });
         };
         let offset_m = width + 2.0 * self.subject.marker_radius_m.unwrap_or(0.0);

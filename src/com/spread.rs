@@ -232,7 +232,8 @@ pub fn compute(markers: &Markers, file: &str, config: &Config, subject: &Subject
             }
         }
         out.spread_m.push(Some(largest));
-        out.axes_m.push(Some([hi[0] - lo[0], hi[1] - lo[1], hi[2] - lo[2]]));
+        out.axes_m
+            .push(Some([hi[0] - lo[0], hi[1] - lo[1], hi[2] - lo[2]]));
         out.low_m.push(Some(lo));
         out.high_m.push(Some(hi));
     }

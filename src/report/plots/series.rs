@@ -310,7 +310,10 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
                     .collect();
                 let upper = kept.iter().map(|&&(t, _, hi)| (t, hi));
                 let lower = kept.iter().rev().map(|&&(t, lo, _)| (t, lo));
-                Polygon::new(upper.chain(lower).collect::<Vec<_>>(), style::COM.mix(0.2).filled())
+                Polygon::new(
+                    upper.chain(lower).collect::<Vec<_>>(),
+                    style::COM.mix(0.2).filled(),
+                )
             }))?;
             legend.push(Entry::new(
                 Swatch::Patch(style::COM, 0.2),
