@@ -45,13 +45,45 @@ fn standing_com_height_under_each_table_and_the_spread() {
         cfg.table = table.to_string();
         let setup = Setup::new(cfg, subject.clone()).unwrap();
         let out = tempfile::tempdir().unwrap();
-        let summary = process_file(
-            &dir.join("trial.csv"),
-            &setup,
-            out.path(),
-            &OutputOptions::default(),
-        )
-        .unwrap();
+        // The series plot (with the band of CoM heights) for one of the tables.
+        let options = OutputOptions {
+            plots: if table == "dumas-2007" {
+                vec![gravline::report::plots::PlotFormat::Png]
+            } else {
+                Vec::new()
+            },
+            ..OutputOptions::default()
+        };
+        let summary = process_file(&dir.join("trial.csv"), &setup, out.path(), &options).unwrap();
+        if table == "dumas-2007" {
+            let trial =
+                gravline::trial::read_trial(&dir.join("trial.csv"), &setup.config.read_options())
+                    .unwrap();
+            let r = run_trial(
+                &trial,
+                &setup.config,
+                &setup.subject,
+                &setup.table,
+                RunOptions::default(),
+            )
+            .unwrap();
+            for p in &r.spread.unwrap().pairs {
+                eprintln!(
+                    "standing pair {} vs {}: mean {:.1} mm, max {:.1} mm",
+                    p.model_a,
+                    p.model_b,
+                    p.mean_m * 1e3,
+                    p.max_m * 1e3
+                );
+            }
+            let png = out.path().join("series.png");
+            assert!(std::fs::metadata(&png).unwrap().len() > 10_000);
+            std::fs::copy(
+                &png,
+                std::env::temp_dir().join("gravline-spread-series.png"),
+            )
+            .ok();
+        }
         let share = summary.com.mean_height_of_stature.unwrap();
         assert!((0.53..=0.59).contains(&share), "{table}: {share}");
         heights.push((table, share * subject.height_m, share));
@@ -105,6 +137,15 @@ fn walk_lower_body_spread_of_the_legs() {
         gravline::signal::fill_gaps(&trial.markers, &trial.times_s, cfg.max_gap_s);
     gravline::signal::low_pass(&mut markers, trial.rate_hz, cfg.cutoff_hz.unwrap()).unwrap();
     let s = spread::compute(&markers, &trial.file, &cfg, &subject);
+    for p in &s.pairs {
+        eprintln!(
+            "walk pair {} vs {}: mean {:.1} mm, max {:.1} mm",
+            p.model_a,
+            p.model_b,
+            p.mean_m * 1e3,
+            p.max_m * 1e3
+        );
+    }
     assert_eq!(s.subsystem, "legs");
     assert_eq!(s.models.len(), 9, "{:?}", s.skipped);
     let f = s.figures();

@@ -176,9 +176,9 @@ pub fn compute(markers: &Markers, file: &str, config: &Config, subject: &Subject
         .collect();
     used.sort_unstable();
     used.dedup();
-    let tracks: Vec<(usize, Vec<Option<[f64; 3]>>)> = used
+    let mut tracks: Vec<(usize, crate::signal::Samples)> = used
         .iter()
-        .filter_map(|&i| Some((i, markers.tracks.get(i)?.to_series(n))))
+        .filter_map(|&i| Some((i, markers.tracks.get(i)?.samples_from(0))))
         .collect();
     let mut frame_markers: Vec<Option<[f64; 3]>> = vec![None; markers.labels.len()];
     let mut points = Vec::new();
@@ -196,8 +196,8 @@ pub fn compute(markers: &Markers, file: &str, config: &Config, subject: &Subject
     let mut coms: Vec<Option<P>> = Vec::with_capacity(m);
     let mut counted = 0usize;
     for f in 0..n {
-        for (i, series) in &tracks {
-            frame_markers[*i] = series[f];
+        for (i, samples) in &mut tracks {
+            frame_markers[*i] = samples.next().flatten();
         }
         coms.clear();
         for (_, body) in &models {
