@@ -195,7 +195,7 @@ pub fn compute(markers: &Markers, file: &str, config: &Config, subject: &Subject
     };
     let mut coms: Vec<Option<P>> = Vec::with_capacity(m);
     let mut counted = 0usize;
-    for f in 0..n {
+    for _ in 0..n {
         for (i, samples) in &mut tracks {
             frame_markers[*i] = samples.next().flatten();
         }
