@@ -206,3 +206,48 @@ fn tables_lists_the_female_table() {
     assert!(text.contains("cervical_jc -> lumbar_jc"), "{text}");
     assert!(text.contains("x  -0.073"), "{text}");
 }
+
+/// The synthetic standing male of the reference notes on Dumas 2007 (landmarks in m, x forward,
+/// y left, z up, stature 1.77 m; joint centers given): the whole-body CoM derived there from
+/// Table 2 is (-0.0355, 0.0004, 1.0127) m (printed to 0.1 mm; the y of 0.4 mm comes from the
+/// z offsets of head and torso alone, so it checks their signs). The ASIS, PSIS and acromions
+/// added here only orient the pelvis frame and the medio-lateral axes along the lab. Checked to
+/// 0.5 mm.
+#[test]
+fn synthetic_standing_male_against_the_derived_whole_body_com() {
+    let mut p: Vec<(&str, [f64; 3])> = vec![
+        ("lumbar_jc", [-0.060, 0.0, 1.0295]),
+        ("cervical_jc", [-0.030, 0.0, 1.5065]),
+        ("jugular", [0.06, 0.0, 1.44]),
+        ("c7", [-0.08, 0.0, 1.50]),
+        ("head_top", [0.0, 0.0, 1.77]),
+        ("l_asis", [0.05, 0.12, 1.0]),
+        ("r_asis", [0.05, -0.12, 1.0]),
+        ("l_psis", [-0.10, 0.05, 1.0]),
+        ("r_psis", [-0.10, -0.05, 1.0]),
+        ("l_acromion", [-0.01, 0.20, 1.45]),
+        ("r_acromion", [-0.01, -0.20, 1.45]),
+    ];
+    for (side, y) in [("l", 1.0), ("r", -1.0)] {
+        let name =
+            |stem: &str| -> &'static str { Box::leak(format!("{side}_{stem}").into_boxed_str()) };
+        p.extend([
+            (name("ankle_jc"), [0.0, 0.09 * y, 0.08]),
+            (name("knee_jc"), [0.0, 0.09 * y, 0.513]),
+            (name("hip_jc"), [0.0, 0.085 * y, 0.945]),
+            (name("shoulder_jc"), [-0.01, 0.19 * y, 1.42]),
+            (name("elbow_jc"), [-0.01, 0.19 * y, 1.13]),
+            (name("wrist_jc"), [-0.01, 0.19 * y, 0.86]),
+            (name("hand"), [-0.01, 0.19 * y, 0.78]),
+            (name("mid_metatarsal"), [0.13, 0.09 * y, 0.02]),
+            (name("heel"), [-0.05, 0.09 * y, 0.0]),
+            (name("toe"), [0.21, 0.09 * y, 0.0]),
+        ]);
+    }
+    let result = run(&p, DUMAS, Sex::Male);
+    let com = result.com[0].unwrap();
+    eprintln!("synthetic standing male, Dumas 2007: CoM {com:?} (derived with lab-aligned frames: -0.0355, 0.0004, 1.0127)");
+    for (got, want) in com.iter().zip([-0.0355, 0.0004, 1.0127]) {
+        assert!((got - want).abs() < 5e-4, "{com:?}");
+    }
+}
