@@ -217,3 +217,34 @@ fn spread_is_the_largest_distance_between_the_tables() {
         .iter()
         .any(|w| w.to_string().starts_with("spread between models")));
 }
+
+/// `--spread` on the command line: frames.csv gains the spread columns and summary.json the
+/// spread block.
+#[test]
+fn the_spread_flag_of_the_command_line() {
+    let dir = realdata().join("standing-static");
+    let out = tempfile::tempdir().unwrap();
+    let config = out.path().join("stand.toml");
+    std::fs::write(&config, STANDING_CONFIG).unwrap();
+    assert_cmd::Command::cargo_bin("gravline")
+        .unwrap()
+        .arg("trial")
+        .arg(dir.join("trial.csv"))
+        .arg("--subject")
+        .arg(dir.join("subject.toml"))
+        .arg("--config")
+        .arg(&config)
+        .args(["--table", "dumas-2007", "--spread", "--no-plots", "--out"])
+        .arg(out.path())
+        .assert()
+        .success();
+    let trial_dir = out.path().join("trial");
+    let frames = std::fs::read_to_string(trial_dir.join("frames.csv")).unwrap();
+    assert!(frames.lines().next().unwrap().contains(",com_spread_m,"));
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(trial_dir.join("summary.json")).unwrap())
+            .unwrap();
+    assert_eq!(summary["spread"]["models"].as_array().unwrap().len(), 9);
+    assert!(summary["spread"]["mean_m"].as_f64().unwrap() > 0.0);
+    assert_eq!(summary["provenance"]["model"]["table"], "dumas-2007");
+}
