@@ -171,6 +171,9 @@ pub enum HipMethod {
     Bell1990,
     /// Hara et al. 2016, leg length only.
     Hara2016,
+    /// Dumas, Cheze & Verriest 2007 (J Biomech 40:543, Table 1): shares of the ASIS width in the
+    /// pelvis frame, by sex (`crate::body::frames`).
+    Dumas2007,
     /// Hip JCs given as `l_hip_jc` / `r_hip_jc` columns.
     Given,
 }
@@ -181,6 +184,7 @@ impl HipMethod {
             HipMethod::Harrington2007 => "harrington-2007",
             HipMethod::Bell1990 => "bell-1990",
             HipMethod::Hara2016 => "hara-2016",
+            HipMethod::Dumas2007 => "dumas-2007",
             HipMethod::Given => "given",
         }
     }
@@ -347,10 +351,11 @@ impl Config {
             None | Some("harrington-2007") => HipMethod::Harrington2007,
             Some("bell-1990") => HipMethod::Bell1990,
             Some("hara-2016") => HipMethod::Hara2016,
+            Some("dumas-2007") => HipMethod::Dumas2007,
             Some("given") => HipMethod::Given,
             Some(other) => {
                 return Err(invalid(format!(
-                    "[model] hip = `{other}`; use harrington-2007, bell-1990, hara-2016 or given"
+                    "[model] hip = `{other}`; use harrington-2007, bell-1990, hara-2016, dumas-2007 or given"
                 )))
             }
         };
@@ -687,7 +692,7 @@ up_axis = "z"         # vertical axis of the lab: "z", "y", "x", "-z", "-y" or "
 
 [model]
 table = "de-leva-1996"   # "de-leva-1996", "dempster-winter", "dumas-2007", "geometric" or a table CSV path
-hip = "harrington-2007"  # "harrington-2007", "bell-1990", "hara-2016" or "given"
+hip = "harrington-2007"  # "harrington-2007", "bell-1990", "hara-2016", "dumas-2007" or "given"
 arms = "required"        # "required" or "hanging" (arms placed below the shoulders when unmarked)
 # endpoints = { trunk = "c7-mid_hip", head = "head_top-mid_gonion" }  # alternative table rows
 spread = false           # also the CoM under every table and hip method, and their spread per frame

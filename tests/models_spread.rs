@@ -30,7 +30,7 @@ fn realdata() -> PathBuf {
 /// Quiet standing under each table: the mean CoM height lies in the published band of
 /// standing CoM height, 0.5527 of stature (a chapter in Whiplash Injuries, 2nd ed., Springer
 /// 2014) and 55-57 % in textbooks; the band checked is 0.53-0.59 (arms approximated). The
-/// spread between the nine models (3 tables x 3 hip methods) is a few centimetres.
+/// spread between the twelve models (3 tables x 4 hip methods) is a few centimetres.
 #[test]
 fn standing_com_height_under_each_table_and_the_spread() {
     let dir = realdata().join("standing-static");
@@ -88,7 +88,7 @@ fn standing_com_height_under_each_table_and_the_spread() {
         assert!((0.53..=0.59).contains(&share), "{table}: {share}");
         heights.push((table, share * subject.height_m, share));
         let s = summary.spread.unwrap();
-        assert_eq!(s.models.len(), 9, "{:?}", s.skipped);
+        assert_eq!(s.models.len(), 12, "{:?}", s.skipped);
         assert_eq!(s.frames_with_spread, summary.frames);
         let (mean, max) = (s.mean_m.unwrap(), s.max_m.unwrap());
         assert!(mean <= max && max < 0.10, "{mean} {max}");
@@ -147,7 +147,7 @@ fn walk_lower_body_spread_of_the_legs() {
         );
     }
     assert_eq!(s.subsystem, "legs");
-    assert_eq!(s.models.len(), 9, "{:?}", s.skipped);
+    assert_eq!(s.models.len(), 12, "{:?}", s.skipped);
     let f = s.figures();
     assert!(f.frames_with_spread > trial.n_frames() / 2);
     let (mean, max) = (f.mean_m.unwrap(), f.max_m.unwrap());
@@ -244,7 +244,7 @@ fn the_spread_flag_of_the_command_line() {
     let summary: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(trial_dir.join("summary.json")).unwrap())
             .unwrap();
-    assert_eq!(summary["spread"]["models"].as_array().unwrap().len(), 9);
+    assert_eq!(summary["spread"]["models"].as_array().unwrap().len(), 12);
     assert!(summary["spread"]["mean_m"].as_f64().unwrap() > 0.0);
     assert_eq!(summary["provenance"]["model"]["table"], "dumas-2007");
 }

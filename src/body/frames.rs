@@ -23,8 +23,9 @@
 //!   women 14 deg / 0.53 and -5 deg / 0.36 (Dumas et al. 2007, Table 1, after Reed, Manary &
 //!   Schneider 1999, SAE 1999-01-0959; the attribution to Reed is from memory).
 //! - Lumbar JC (L5/S1) in the ISB pelvis frame, as shares of the inter-ASIS width PW: men
-//!   (-0.335, -0.032, 0), women (-0.340, 0.049, 0) (Dumas et al. 2007, Table 1, as transcribed
-//!   in Dumas & Wojtusch 2018).
+//!   (-0.335, -0.032, 0), women (-0.340, 0.049, 0); right hip JC (`hip = "dumas-2007"`): men
+//!   (-0.095, -0.370, 0.361), women (-0.139, -0.336, 0.372), the left negating z (Dumas et al.
+//!   2007, Table 1, as transcribed in Dumas & Wojtusch 2018).
 //!
 //! Each estimate or stand-in for a landmark the table is defined on is a warning of the body
 //! model.
@@ -136,6 +137,21 @@ pub fn lumbar_jc(pelvis: &PelvisFrame, sex: Sex) -> P {
     pelvis.to_lab(c.map(|k| k * pelvis.width_m))
 }
 
+/// Right hip JC in the ISB pelvis frame as shares of the inter-ASIS width (module doc); the
+/// left hip negates z.
+fn hip_coefficients(sex: Sex) -> [f64; 3] {
+    match sex {
+        Sex::Male => [-0.095, -0.370, 0.361],
+        Sex::Female => [-0.139, -0.336, 0.372],
+    }
+}
+
+/// Hip JC of Dumas 2007 in the lab from the pelvis frame (`right` for the right hip).
+pub fn dumas_hip_jc(pelvis: &PelvisFrame, right: bool, sex: Sex) -> P {
+    let [x, y, z] = hip_coefficients(sex).map(|k| k * pelvis.width_m);
+    pelvis.to_lab([x, y, if right { z } else { -z }])
+}
+
 /// A joint center of this module, as a point definition of the body model.
 #[derive(Clone, Debug, PartialEq)]
 pub enum JointDef {
@@ -156,6 +172,13 @@ pub enum JointDef {
         l_asis: PointId,
         r_asis: PointId,
         mid_psis: PointId,
+        sex: Sex,
+    },
+    Hip {
+        l_asis: PointId,
+        r_asis: PointId,
+        mid_psis: PointId,
+        right: bool,
         sex: Sex,
     },
 }
@@ -191,6 +214,14 @@ impl JointDef {
                 sex,
             } => PelvisFrame::new(get(*l_asis)?, get(*r_asis)?, get(*mid_psis)?)
                 .map(|f| lumbar_jc(&f, *sex)),
+            JointDef::Hip {
+                l_asis,
+                r_asis,
+                mid_psis,
+                right,
+                sex,
+            } => PelvisFrame::new(get(*l_asis)?, get(*r_asis)?, get(*mid_psis)?)
+                .map(|f| dumas_hip_jc(&f, *right, *sex)),
         }
     }
 }
@@ -440,6 +471,28 @@ impl Resolver<'_> {
         ))
     }
 
+    /// The hip JC of Dumas 2007 in the pelvis frame (`[model] hip = "dumas-2007"`).
+    pub(super) fn dumas_hip_jc(
+        &mut self,
+        name: &str,
+        side: Side,
+    ) -> Result<PointId, LandmarkError> {
+        let l_asis = self.resolve("l_asis")?;
+        let r_asis = self.resolve("r_asis")?;
+        let mid_psis = self.resolve("mid_psis")?;
+        let sex = self.subject.sex;
+        Ok(self.push_joint(
+            name,
+            JointDef::Hip {
+                l_asis,
+                r_asis,
+                mid_psis,
+                right: side == Side::Right,
+                sex,
+            },
+        ))
+    }
+
     /// The shoulder JC of Dumas 2007 from the acromion, C7 and the jugular notch; `None` when
     /// C7 or the jugular notch is not marked (the caller then uses its own method).
     pub(super) fn thorax_shoulder_jc(
@@ -534,6 +587,23 @@ mod tests {
         assert_abs_diff_eq!(
             s,
             acromion + P::new(t.cos(), t.sin(), 0.0) * (0.36 * 0.15),
+            epsilon = 1e-12
+        );
+    }
+
+    /// The hip JC of `hip = "dumas-2007"`: (-0.139, -0.336, +/-0.372) PW for women.
+    #[test]
+    fn dumas_hip_jc_in_the_pelvis_frame() {
+        let l = P::new(0.1, 1.0, -0.125);
+        let r = P::new(0.1, 1.0, 0.125);
+        let f = PelvisFrame::new(l, r, P::new(-0.06, 1.0, 0.0)).unwrap();
+        let right = dumas_hip_jc(&f, true, Sex::Female);
+        let left = dumas_hip_jc(&f, false, Sex::Female);
+        let expected = P::new(0.1 - 0.139 * 0.25, 1.0 - 0.336 * 0.25, 0.372 * 0.25);
+        assert_abs_diff_eq!(right, expected, epsilon = 1e-12);
+        assert_abs_diff_eq!(
+            left,
+            P::new(expected.x, expected.y, -expected.z),
             epsilon = 1e-12
         );
     }

@@ -743,6 +743,9 @@ impl<'a> Resolver<'a> {
                 "[model] hip = \"given\" needs hip JC columns; or choose a regression",
             ));
         }
+        if self.config.hip == HipMethod::Dumas2007 {
+            return self.dumas_hip_jc(name, side);
+        }
         let l_asis = self.resolve("l_asis")?;
         let r_asis = self.resolve("r_asis")?;
         let mid_psis = self.resolve("mid_psis")?;

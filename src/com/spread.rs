@@ -7,7 +7,8 @@
 //! Verriest 2007, J Biomech 40:543, Table 2; the subject's own segments when the subject file
 //! has `[geometry]` ([`crate::body::geometric`]); and the configured table when it is a file) crossed
 //! with every hip JC regression (Harrington et al. 2007, J Biomech 40:595; Bell, Pedersen &
-//! Brand 1990, J Biomech 23:617; Hara et al. 2016, Sci Rep 6:37707), and from them:
+//! Brand 1990, J Biomech 23:617; Hara et al. 2016, Sci Rep 6:37707; Dumas et al. 2007), and
+//! from them:
 //! - `spread_m`: the largest distance between any two model CoMs (metres);
 //! - `axes_m`: per lab axis, the largest difference between any two models' coordinates;
 //! - `low_m` / `high_m`: per axis the smallest and largest model coordinate (the plotted band);
@@ -31,10 +32,11 @@ use crate::warning::Warning;
 use serde::Serialize;
 
 /// The hip JC regressions compared.
-pub const HIP_METHODS: [HipMethod; 3] = [
+pub const HIP_METHODS: [HipMethod; 4] = [
     HipMethod::Harrington2007,
     HipMethod::Bell1990,
     HipMethod::Hara2016,
+    HipMethod::Dumas2007,
 ];
 
 /// Mean and largest distance between the CoMs of two models over the frames with a spread.
