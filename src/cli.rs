@@ -144,7 +144,7 @@ struct SetupArgs {
     /// Configuration file (TOML; see `gravline config --print-default`).
     #[arg(long)]
     config: Option<PathBuf>,
-    /// Anthropometric table: de-leva-1996, dempster-winter or a table file.
+    /// Anthropometric table: de-leva-1996, dempster-winter, dumas-2007 or a table file.
     #[arg(long)]
     table: Option<String>,
     /// Sampling rate in Hz, for files with a frame column.
@@ -156,6 +156,9 @@ struct SetupArgs {
     /// Longest interior marker gap bridged by the spline, in seconds.
     #[arg(long)]
     max_gap_s: Option<f64>,
+    /// Also compute the CoM under every table and hip method, and their spread per frame.
+    #[arg(long)]
+    spread: bool,
 }
 
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
@@ -340,6 +343,9 @@ fn raw_config(args: &SetupArgs) -> Result<(RawConfig, String)> {
     }
     if let Some(g) = args.max_gap_s {
         raw.filter.max_gap_s = Some(g);
+    }
+    if args.spread {
+        raw.model.spread = Some(true);
     }
     Ok((raw, origin))
 }

@@ -1,7 +1,9 @@
 //! Stage 4, center of mass: segment CoMs, the mass-weighted whole-body average, subsystem
 //! (group) CoMs, external loads, and the extrapolated CoM.
 //!
-//! - Segment CoM: `r = origin + f (other - origin)`, f the table's CoM fraction (DESIGN.md 5).
+//! - Segment CoM: `r = origin + f (other - origin)`, f the table's CoM fraction (DESIGN.md 5);
+//!   for a table in segment frames (Dumas, Cheze & Verriest 2007, J Biomech 40:543), the 3-D
+//!   offset in the segment's ISB frame ([`crate::body::frames`]).
 //! - Whole body: `R = sum(m_i r_i) / sum(m_i)` over all segments (and loads for the system CoM),
 //!   dividing by the actual sum of the masses (reference/segment-tables.md 5). A frame where any
 //!   needed segment or load is missing has no CoM; it is never re-weighted.
@@ -9,6 +11,8 @@
 //!   `omega0 = sqrt(g / l)`, horizontal components only, l the pendulum (leg) length.
 //!
 //! Units: metres, kilograms, seconds.
+
+pub mod spread;
 
 use crate::body::model::PointId;
 use crate::body::{BodyModel, LandmarkError};
@@ -213,22 +217,7 @@ impl ComModel {
         markers: &[Option<[f64; 3]>],
         seg: &mut Vec<Option<P>>,
     ) -> FrameCom {
-        seg.clear();
-        for s in &body.segments {
-            let origin = points.get(s.origin.id).copied().flatten();
-            let other = points.get(s.other.id).copied().flatten();
-            seg.push(
-                origin
-                    .zip(other)
-                    .map(|(a, b)| segment_com(a, b, s.com_fraction)),
-            );
-        }
-        let body_com = weighted_average(
-            body.segments
-                .iter()
-                .zip(seg.iter())
-                .map(|(s, c)| (s.mass_kg, *c)),
-        );
+        let body_com = body_com(body, points, seg);
         let mut loads = Vec::with_capacity(self.loads.len());
         for l in &self.loads {
             let p = match &l.source {
@@ -266,6 +255,28 @@ impl ComModel {
             groups,
         }
     }
+}
+
+/// The CoM of each segment of `body` in one frame into `seg` (a reused buffer), and the body
+/// CoM: their mass-weighted average. `points` is the body model's evaluation of the frame.
+pub fn body_com(body: &BodyModel, points: &[Option<P>], seg: &mut Vec<Option<P>>) -> Option<P> {
+    seg.clear();
+    for s in &body.segments {
+        let origin = points.get(s.origin.id).copied().flatten();
+        let other = points.get(s.other.id).copied().flatten();
+        seg.push(match &s.frame {
+            Some(f) => f.com(|id| points.get(id).copied().flatten()),
+            None => origin
+                .zip(other)
+                .map(|(a, b)| segment_com(a, b, s.com_fraction)),
+        });
+    }
+    weighted_average(
+        body.segments
+            .iter()
+            .zip(seg.iter())
+            .map(|(s, c)| (s.mass_kg, *c)),
+    )
 }
 
 /// The combination of one frame.

@@ -40,6 +40,8 @@ pub struct RawModel {
     pub arms: Option<String>,
     #[serde(default)]
     pub endpoints: BTreeMap<String, String>,
+    /// Also compute the CoM under every table and hip method, and their spread per frame.
+    pub spread: Option<bool>,
 }
 
 /// A cut-off in Hz or the word `"none"`.
@@ -185,6 +187,9 @@ pub enum HipMethod {
     Bell1990,
     /// Hara et al. 2016, leg length only.
     Hara2016,
+    /// Dumas, Cheze & Verriest 2007 (J Biomech 40:543, Table 1): shares of the ASIS width in the
+    /// pelvis frame, by sex (`crate::body::frames`).
+    Dumas2007,
     /// Hip JCs given as `l_hip_jc` / `r_hip_jc` columns.
     Given,
 }
@@ -195,6 +200,7 @@ impl HipMethod {
             HipMethod::Harrington2007 => "harrington-2007",
             HipMethod::Bell1990 => "bell-1990",
             HipMethod::Hara2016 => "hara-2016",
+            HipMethod::Dumas2007 => "dumas-2007",
             HipMethod::Given => "given",
         }
     }
@@ -317,6 +323,8 @@ pub struct Config {
     /// `[trial] movement`; left out of the configuration hash when `auto`.
     #[serde(skip_serializing_if = "crate::movement::MovementChoice::is_auto")]
     pub movement: crate::movement::MovementChoice,
+    /// Compute the spread of the CoM between models (`[model] spread`, `--spread`).
+    pub spread: bool,
 }
 
 /// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
@@ -362,10 +370,11 @@ impl Config {
             None | Some("harrington-2007") => HipMethod::Harrington2007,
             Some("bell-1990") => HipMethod::Bell1990,
             Some("hara-2016") => HipMethod::Hara2016,
+            Some("dumas-2007") => HipMethod::Dumas2007,
             Some("given") => HipMethod::Given,
             Some(other) => {
                 return Err(invalid(format!(
-                    "[model] hip = `{other}`; use harrington-2007, bell-1990, hara-2016 or given"
+                    "[model] hip = `{other}`; use harrington-2007, bell-1990, hara-2016, dumas-2007 or given"
                 )))
             }
         };
@@ -557,6 +566,7 @@ impl Config {
             groups,
             virtual_landmarks,
             movement,
+            spread: raw.model.spread.unwrap_or(false),
         })
     }
 
@@ -600,6 +610,30 @@ pub struct Subject {
     pub ankle_width_m: Option<f64>,
     pub elbow_width_m: Option<f64>,
     pub wrist_width_m: Option<f64>,
+    /// `[geometry]`: measured segment shapes for `[model] table = "geometric"`, by segment name
+    /// (`thigh` for both sides, or `l_thigh` / `r_thigh`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub geometry: Option<BTreeMap<String, SegmentGeometry>>,
+}
+
+/// One segment's measured shape: its length along the table's endpoints and the perimeter and
+/// width at levels along it (see anthropometry/README.md, geometric model).
+#[derive(Clone, Debug, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct SegmentGeometry {
+    /// Origin-to-other endpoint length, metres.
+    pub length_m: f64,
+    /// Levels from the origin endpoint (`at` = 0) to the other (`at` = 1).
+    pub levels: Vec<GeometryLevel>,
+}
+
+/// A cross-section of a segment: perimeter and width (metres) at a share `at` of its length.
+#[derive(Clone, Debug, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct GeometryLevel {
+    pub at: f64,
+    pub perimeter_m: f64,
+    pub width_m: f64,
 }
 
 impl Subject {
@@ -617,6 +651,7 @@ impl Subject {
             ankle_width_m: None,
             elbow_width_m: None,
             wrist_width_m: None,
+            geometry: None,
         }
     }
 
@@ -684,10 +719,11 @@ up_axis = "z"         # vertical axis of the lab: "z", "y", "x", "-z", "-y" or "
 # l_asis = "LeftASIS"
 
 [model]
-table = "de-leva-1996"   # "de-leva-1996", "dempster-winter" or the path of a table CSV
-hip = "harrington-2007"  # "harrington-2007", "bell-1990", "hara-2016" or "given"
+table = "de-leva-1996"   # "de-leva-1996", "dempster-winter", "dumas-2007", "geometric" or a table CSV path
+hip = "harrington-2007"  # "harrington-2007", "bell-1990", "hara-2016", "dumas-2007" or "given"
 arms = "required"        # "required" or "hanging" (arms placed below the shoulders when unmarked)
 # endpoints = { trunk = "c7-mid_hip", head = "head_top-mid_gonion" }  # alternative table rows
+spread = false           # also the CoM under every table and hip method, and their spread per frame
 
 [filter]
 cutoff_hz = 6.0       # zero-lag Butterworth cut-off in Hz, or "none"

@@ -79,6 +79,8 @@ pub struct TrialResult {
     pub support: SupportSeries,
     /// Mid-foot and repetitions, for trials with loads.
     pub lift: Option<support::lift::LiftSeries>,
+    /// The CoM's spread between models, when the configuration asks for it.
+    pub spread: Option<com::spread::SpreadSeries>,
     pub model: ModelInfo,
     pub warnings: Vec<Warning>,
     /// The movement and its figures (gait, jump, repetitions, sway).
@@ -120,6 +122,7 @@ pub fn run_trial(
         markers,
         gaps,
         config,
+        subject,
         table,
         options,
         trial_threads(),
@@ -151,7 +154,7 @@ fn run_flat_trial(
         threads,
     );
     run_filled(
-        &trial, models, markers, gaps, config, table, options, threads, false,
+        &trial, models, markers, gaps, config, subject, table, options, threads, false,
     )
 }
 
@@ -258,6 +261,7 @@ fn run_filled(
     mut markers: signal::Markers,
     gaps: Vec<signal::FilledGap>,
     config: &Config,
+    subject: &Subject,
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
@@ -385,6 +389,11 @@ fn run_filled(
     let omega0 = xcom_length_m.map(com::omega0);
     let (floor_m, floor_warning) = floor;
     warnings.extend(floor_warning);
+    let spread = config.spread.then(|| {
+        let s = com::spread::compute(&markers, &trial.file, config, subject);
+        warnings.extend(s.warnings(&system, trial.up_axis));
+        s
+    });
     let up = trial.up_axis;
     let xcom: Vec<Option<[f64; 3]>> = system
         .iter()
@@ -462,6 +471,7 @@ fn run_filled(
         segments,
         support,
         lift,
+        spread,
         model,
         warnings,
         movement: Default::default(),
@@ -522,7 +532,11 @@ pub struct Setup {
 impl Setup {
     /// Loads the table the configuration names for the subject's sex.
     pub fn new(config: Config, subject: Subject) -> Result<Setup, Error> {
-        let table = SegmentTable::load(&config.table, subject.sex)?;
+        let table = if config.table == "geometric" {
+            crate::body::geometric::table(&subject)?
+        } else {
+            SegmentTable::load(&config.table, subject.sex)?
+        };
         Ok(Setup {
             config,
             subject,

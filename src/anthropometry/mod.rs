@@ -1,6 +1,6 @@
 //! Anthropometric tables: segment mass fractions and CoM locations (DESIGN.md 5).
 //!
-//! Input: a table name (`de-leva-1996`, `dempster-winter`) and the subject's sex, or the path of
+//! Input: a table name (`de-leva-1996`, `dempster-winter`, `dumas-2007`) and the subject's sex, or the path of
 //! a user table in the same CSV format. Output: a validated [`SegmentTable`], one row per segment
 //! and endpoint definition. Fractions are dimensionless: `mass_fraction` is the segment's share of
 //! body mass, `com_fraction` the CoM's distance from the row's `origin` endpoint as a share of the
@@ -12,6 +12,12 @@
 //!   J Biomech 29(9):1223-1230, Table 4 (male and female; main and alternative endpoints).
 //! - Dempster WT (1955) via Winter DA, Biomechanics and Motor Control of Human Movement,
 //!   4th ed. (2009), Table 4.1.
+//! - Dumas R, Cheze L, Verriest J-P (2007), Adjustments to McConville et al. and Young et al.
+//!   body segment inertial parameters, J Biomech 40(3):543-553, Table 2 (male and female). Its
+//!   rows give the CoM as a 3-D offset `(com_x, com_y, com_z)` in the segment's ISB coordinate
+//!   system (Wu et al. 2002, J Biomech 35:543; Wu et al. 2005, J Biomech 38:981), as shares of
+//!   the segment length, for right-side segments; [`crate::body::frames`] builds the frames and
+//!   mirrors the left side.
 //!
 //! Validation on load: known segment names, endpoints in the landmark vocabulary, fractions in
 //! (0, 1], exactly one default row per segment, and whole-body mass fractions summing to 1 within
@@ -72,6 +78,8 @@ pub enum SegmentKind {
     UpperTrunk,
     MiddleTrunk,
     LowerTrunk,
+    /// Dumas 2007's pelvis (lumbar JC to the hip JCs); tables with a whole trunk have none.
+    Pelvis,
     UpperArm,
     Forearm,
     Hand,
@@ -81,12 +89,13 @@ pub enum SegmentKind {
 }
 
 impl SegmentKind {
-    pub const ALL: [SegmentKind; 11] = [
+    pub const ALL: [SegmentKind; 12] = [
         SegmentKind::Head,
         SegmentKind::Trunk,
         SegmentKind::UpperTrunk,
         SegmentKind::MiddleTrunk,
         SegmentKind::LowerTrunk,
+        SegmentKind::Pelvis,
         SegmentKind::UpperArm,
         SegmentKind::Forearm,
         SegmentKind::Hand,
@@ -114,6 +123,7 @@ impl SegmentKind {
             SegmentKind::UpperTrunk => "upper_trunk",
             SegmentKind::MiddleTrunk => "middle_trunk",
             SegmentKind::LowerTrunk => "lower_trunk",
+            SegmentKind::Pelvis => "pelvis",
             SegmentKind::UpperArm => "upper_arm",
             SegmentKind::Forearm => "forearm",
             SegmentKind::Hand => "hand",
@@ -175,8 +185,14 @@ pub struct SegmentRow {
     pub other: String,
     /// Share of body mass, in (0, 1].
     pub mass_fraction: f64,
-    /// CoM distance from `origin`, as a share of the origin-to-other length, in (0, 1].
+    /// CoM distance from `origin`, as a share of the origin-to-other length, in (0, 1]. For a
+    /// row with [`SegmentRow::com_frame`], the share along the segment's long axis, |com_y|
+    /// (shown by `gravline tables`; the CoM itself comes from the 3-D offset).
     pub com_fraction: f64,
+    /// CoM as a 3-D offset `(x, y, z)` in the segment's ISB coordinate system (x anterior,
+    /// y along the long axis, z right; origin at `origin`), as shares of the origin-to-other
+    /// length, for a right-side segment (Dumas et al. 2007). `None` for rows on the line.
+    pub com_frame: Option<[f64; 3]>,
     /// Used unless the configuration picks another row for this segment.
     pub is_default: bool,
     /// The publication's own endpoint codes (`SUPR-MIDH`).
@@ -209,7 +225,7 @@ pub struct SegmentTable {
 /// A table that cannot be used.
 #[derive(Debug, thiserror::Error)]
 pub enum TableError {
-    #[error("unknown table `{name}`: built-in tables are de-leva-1996 and dempster-winter, or give the path of a table file")]
+    #[error("unknown table `{name}`: built-in tables are de-leva-1996, dempster-winter and dumas-2007, or give the path of a table file")]
     Unknown { name: String },
     #[error("cannot read table file {path}: {source}")]
     Io {
@@ -227,11 +243,13 @@ pub enum TableError {
 }
 
 /// The built-in table names.
-pub const BUILTIN: [&str; 2] = ["de-leva-1996", "dempster-winter"];
+pub const BUILTIN: [&str; 3] = ["de-leva-1996", "dempster-winter", "dumas-2007"];
 
 const DE_LEVA_MALE: &str = include_str!("../../anthropometry/de-leva-1996-male.csv");
 const DE_LEVA_FEMALE: &str = include_str!("../../anthropometry/de-leva-1996-female.csv");
 const DEMPSTER_WINTER: &str = include_str!("../../anthropometry/dempster-winter.csv");
+const DUMAS_MALE: &str = include_str!("../../anthropometry/dumas-2007-male.csv");
+const DUMAS_FEMALE: &str = include_str!("../../anthropometry/dumas-2007-female.csv");
 
 /// Whole-body mass fractions may differ from 1 by this much before a warning (DESIGN.md 5).
 pub const MASS_SUM_TOLERANCE: f64 = 0.005;
@@ -254,6 +272,14 @@ impl SegmentTable {
                 (DE_LEVA_FEMALE, "de Leva 1996, J Biomech 29:1223, Table 4")
             }
             ("dempster-winter", _) => (DEMPSTER_WINTER, "Dempster 1955 via Winter 2009, Table 4.1"),
+            ("dumas-2007", Sex::Male) => (
+                DUMAS_MALE,
+                "Dumas, Cheze & Verriest 2007, J Biomech 40:543, Table 2",
+            ),
+            ("dumas-2007", Sex::Female) => (
+                DUMAS_FEMALE,
+                "Dumas, Cheze & Verriest 2007, J Biomech 40:543, Table 2",
+            ),
             _ => {
                 return Err(TableError::Unknown {
                     name: name.to_string(),
@@ -270,6 +296,12 @@ impl SegmentTable {
 
     /// A built-in table by name, or a user table file when `name_or_path` is not a built-in name.
     pub fn load(name_or_path: &str, sex: Sex) -> Result<SegmentTable, TableError> {
+        if name_or_path == "geometric" {
+            return Err(TableError::Table {
+                table: name_or_path.to_string(),
+                message: "built from the subject's [geometry] measurements; run a trial with --subject S.toml and [model] table = \"geometric\"".to_string(),
+            });
+        }
         if BUILTIN.contains(&name_or_path) {
             return SegmentTable::builtin(name_or_path, sex);
         }
@@ -337,6 +369,20 @@ impl SegmentTable {
                     )
                 })?;
         }
+        // Optional 3-D CoM columns (tables in segment frames).
+        let frame_index: Option<[usize; 3]> = {
+            let find = |c: &str| headers.iter().position(|h| h.trim() == c);
+            match (find("com_x"), find("com_y"), find("com_z")) {
+                (Some(x), Some(y), Some(z)) => Some([x, y, z]),
+                (None, None, None) => None,
+                _ => {
+                    return Err(row_err(
+                        skipped + 1,
+                        "give all three of com_x, com_y, com_z, or none".to_string(),
+                    ))
+                }
+            }
+        };
         let mut rows = Vec::new();
         for record in reader.records() {
             let record = record.map_err(|e| {
@@ -389,7 +435,35 @@ impl SegmentTable {
                 Ok(value)
             };
             let mass_fraction = fraction(4)?;
-            let com_fraction = fraction(5)?;
+            let com_frame = match frame_index {
+                Some(idx)
+                    if idx
+                        .iter()
+                        .any(|&k| !record.get(k).unwrap_or("").trim().is_empty()) =>
+                {
+                    let mut c = [0.0; 3];
+                    for (axis, &k) in idx.iter().enumerate() {
+                        let text = record.get(k).unwrap_or("").trim();
+                        let name = ["com_x", "com_y", "com_z"][axis];
+                        let value: f64 = text.parse().map_err(|_| {
+                            row_err(line, format!("column `{name}` is `{text}`, not a number"))
+                        })?;
+                        if value.is_nan() || value.abs() > 1.5 {
+                            return Err(row_err(
+                                line,
+                                format!("column `{name}` is {value}; give a share of the segment length (|value| <= 1.5)"),
+                            ));
+                        }
+                        c[axis] = value;
+                    }
+                    Some(c)
+                }
+                _ => None,
+            };
+            let com_fraction = match com_frame {
+                Some(c) if field(5).is_empty() => c[1].abs(),
+                _ => fraction(5)?,
+            };
             let is_default = match field(6).to_ascii_lowercase().as_str() {
                 "yes" | "true" => true,
                 "no" | "false" | "" => false,
@@ -409,6 +483,7 @@ impl SegmentTable {
                 other: field(3).to_string(),
                 mass_fraction,
                 com_fraction,
+                com_frame,
                 is_default,
                 endpoints_code: field(7).to_string(),
             });
@@ -442,7 +517,7 @@ impl SegmentTable {
             }
         }
         let mut mass_sum = 0.0;
-        for segment in SegmentKind::WHOLE_BODY {
+        for segment in body_segments(by_segment.contains_key(&SegmentKind::Pelvis)) {
             let Some(idx) = by_segment.get(&segment) else {
                 return Err(table_err(format!(
                     "no row for segment `{segment}`; a table covers the whole body"
@@ -468,6 +543,17 @@ impl SegmentTable {
         })
     }
 
+    /// The segments of a whole body under this table: [`SegmentKind::WHOLE_BODY`], with a
+    /// separate pelvis when the table has one (Dumas 2007).
+    pub fn body_segments(&self) -> Vec<SegmentKind> {
+        body_segments(self.rows.iter().any(|r| r.segment == SegmentKind::Pelvis))
+    }
+
+    /// Whether the table places CoMs in segment frames (3-D offsets).
+    pub fn has_frames(&self) -> bool {
+        self.rows.iter().any(|r| r.com_frame.is_some())
+    }
+
     /// The default row of a segment.
     pub fn default_row(&self, segment: SegmentKind) -> Option<&SegmentRow> {
         self.rows
@@ -484,6 +570,15 @@ impl SegmentTable {
     pub fn row_by_key(&self, segment: SegmentKind, key: &str) -> Option<&SegmentRow> {
         self.rows_of(segment).find(|r| r.key() == key)
     }
+}
+
+/// Whole-body segments, with the pelvis after the trunk when the table has one.
+fn body_segments(with_pelvis: bool) -> Vec<SegmentKind> {
+    let mut kinds = SegmentKind::WHOLE_BODY.to_vec();
+    if with_pelvis {
+        kinds.insert(2, SegmentKind::Pelvis);
+    }
+    kinds
 }
 
 /// Checks that an endpoint names a point of the vocabulary in the form the segment needs
@@ -521,6 +616,19 @@ pub fn describe(table: &SegmentTable) -> String {
             if r.is_default { "yes" } else { "" },
             r.endpoints_code
         ));
+    }
+    if table.has_frames() {
+        out.push_str("\nCoM in the segment's ISB frame (x anterior, y long axis, z right), share of length, right side (left: z negated)\n");
+        for r in table.rows.iter().filter(|r| r.com_frame.is_some()) {
+            let c = r.com_frame.unwrap_or_default();
+            out.push_str(&format!(
+                "{:<13} x {:>7.3}  y {:>7.3}  z {:>7.3}\n",
+                r.segment.name(),
+                c[0],
+                c[1],
+                c[2]
+            ));
+        }
     }
     out
 }

@@ -84,7 +84,8 @@ pub fn hip_regression_mm(method: HipMethod, pw: f64, pd: f64, ll: f64) -> Option
         ]),
         HipMethod::Bell1990 => Some([-0.19 * pw, -0.30 * pw, 0.36 * pw]),
         HipMethod::Hara2016 => Some([11.0 - 0.063 * ll, -9.0 - 0.078 * ll, 8.0 + 0.086 * ll]),
-        HipMethod::Given => None,
+        // Sex-specific shares of the ASIS width: `crate::body::frames::dumas_hip_jc`.
+        HipMethod::Dumas2007 | HipMethod::Given => None,
     }
 }
 

@@ -5,9 +5,15 @@
 //! - [`vocabulary`]: the landmark names.
 //! - [`joints`]: joint-center methods (hip regressions, midpoints, lateral-marker offsets,
 //!   shoulder from the acromion, vertex from four head markers).
+//! - [`frames`]: ISB segment coordinate systems, the 3-D segment CoM and the Dumas 2007 joint
+//!   centers (cervical, lumbar, shoulder).
+//! - [`geometric`]: the subject's own segments, integrated from measured perimeters and widths
+//!   (stadium solids after Yeadon 1990).
 //! - [`model`]: resolution of every point the segments need into a per-frame evaluation plan,
 //!   with the "landmark not found" error raised before any computation.
 
+pub mod frames;
+pub mod geometric;
 pub mod joints;
 pub mod model;
 pub mod vocabulary;

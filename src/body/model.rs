@@ -12,6 +12,7 @@
 //! axis (mid-shoulder to mid-hip), at de Leva's (1996, Table 4) mean segment lengths scaled by
 //! stature; the table's own CoM fractions then place the arm segments. Reported as a warning.
 
+use super::frames::{FrameCom, JointDef};
 use super::joints::{self, PelvisFrame, P};
 use super::vocabulary::{self, Side};
 use crate::anthropometry::{SegmentKind, SegmentTable, Sex};
@@ -70,6 +71,8 @@ enum Def {
         bottom: PointId,
         distance_m: f64,
     },
+    /// A joint center of a table in segment frames ([`super::frames`]).
+    Joint(JointDef),
 }
 
 /// One segment of the model.
@@ -86,6 +89,9 @@ pub struct Segment {
     pub com_fraction: f64,
     /// The table row's endpoint key (`hip_jc-knee_jc`).
     pub row_key: String,
+    /// The CoM as a 3-D offset in the segment's frame (tables in segment frames); when set, it
+    /// places the CoM instead of `com_fraction`.
+    pub frame: Option<FrameCom>,
 }
 
 /// A segment endpoint: its name and its point in the model.
@@ -160,13 +166,29 @@ impl BodyModel {
         table: &SegmentTable,
         optional: &[&str],
     ) -> Result<BodyModel, LandmarkError> {
+        let kinds = table.body_segments();
+        BodyModel::build_segments(labels, file, config, subject, table, optional, &kinds)
+    }
+
+    /// [`BodyModel::build`] for the listed segments only (a subsystem such as the legs, for
+    /// comparing models on a marker set that lacks the rest).
+    pub fn build_segments(
+        labels: &[String],
+        file: &str,
+        config: &Config,
+        subject: &Subject,
+        table: &SegmentTable,
+        optional: &[&str],
+        body_segments: &[SegmentKind],
+    ) -> Result<BodyModel, LandmarkError> {
         let mut r = Resolver::new(labels, file, config, subject);
+        r.thorax_shoulder = table.has_frames();
         let mut segments = Vec::new();
         let trunk_parts = config
             .endpoints
             .get(&SegmentKind::Trunk)
             .is_some_and(|k| k == "parts");
-        let kinds: Vec<SegmentKind> = SegmentKind::WHOLE_BODY
+        let kinds: Vec<SegmentKind> = body_segments
             .iter()
             .flat_map(|&k| {
                 if k == SegmentKind::Trunk && trunk_parts {
@@ -222,6 +244,12 @@ impl BodyModel {
                 let other_name = full(&row.other);
                 let origin = r.resolve(&origin_name)?;
                 let other = r.resolve(&other_name)?;
+                let frame = match row.com_frame {
+                    Some(offset) => {
+                        Some(r.frame_com(&full(kind.name()), kind, side, origin, other, offset)?)
+                    }
+                    None => None,
+                };
                 segments.push(Segment {
                     name: full(kind.name()),
                     kind,
@@ -237,6 +265,7 @@ impl BodyModel {
                     mass_kg: row.mass_fraction * subject.mass_kg,
                     com_fraction: row.com_fraction,
                     row_key: row.key(),
+                    frame,
                 });
             }
         }
@@ -403,6 +432,7 @@ impl BodyModel {
                         .map(|down| b + down * *distance_m),
                     _ => None,
                 },
+                Def::Joint(joint) => joint.evaluate(get),
             };
             out.push(value);
         }
@@ -467,17 +497,19 @@ fn de_leva_arm_lengths_m(sex: Sex) -> [f64; 5] {
 }
 
 /// Builds point definitions on demand, in dependency order.
-struct Resolver<'a> {
+pub(super) struct Resolver<'a> {
     labels: HashMap<&'a str, usize>,
     all_labels: &'a [String],
     file: &'a str,
     config: &'a Config,
-    subject: &'a Subject,
+    pub(super) subject: &'a Subject,
     defs: Vec<Def>,
     names: Vec<String>,
     ids: HashMap<String, PointId>,
     visiting: Vec<String>,
-    warnings: Vec<Warning>,
+    pub(super) warnings: Vec<Warning>,
+    /// Shoulder JCs by the thorax regression of [`super::frames`] (tables in segment frames).
+    thorax_shoulder: bool,
 }
 
 impl<'a> Resolver<'a> {
@@ -497,7 +529,17 @@ impl<'a> Resolver<'a> {
             ids: HashMap::new(),
             visiting: Vec::new(),
             warnings: Vec::new(),
+            thorax_shoulder: false,
         }
+    }
+
+    /// Whether a landmark is a marker of the trial or a `[virtual]` definition.
+    pub(super) fn is_available(&self, name: &str) -> bool {
+        self.label_index(name).is_some() || self.config.virtual_landmarks.contains_key(name)
+    }
+
+    pub(super) fn push_joint(&mut self, name: &str, joint: JointDef) -> PointId {
+        self.push(name, Def::Joint(joint))
     }
 
     /// The label a landmark is looked up under: the `[landmarks]` map, else its own name.
@@ -538,7 +580,7 @@ impl<'a> Resolver<'a> {
     }
 
     /// Resolves a point by name (see the module doc for the order of the rules).
-    fn resolve(&mut self, name: &str) -> Result<PointId, LandmarkError> {
+    pub(super) fn resolve(&mut self, name: &str) -> Result<PointId, LandmarkError> {
         if let Some(&id) = self.ids.get(name) {
             return Ok(id);
         }
@@ -601,6 +643,11 @@ impl<'a> Resolver<'a> {
             (Some(side), "elbow_jc") => self.epicondyle_jc(name, side, Joint::Elbow),
             (Some(side), "wrist_jc") => self.wrist_jc(name, side),
             (Some(side), "shoulder_jc") => {
+                if self.thorax_shoulder {
+                    if let Some(id) = self.thorax_shoulder_jc(name, side)? {
+                        return Ok(id);
+                    }
+                }
                 let acromion = self.resolve(&side.name("acromion"))?;
                 let other = self.resolve(&other(side).name("acromion"))?;
                 let mid_hip = self.resolve("mid_hip")?;
@@ -621,6 +668,25 @@ impl<'a> Resolver<'a> {
                 let l = self.resolve("l_hip_jc")?;
                 let r = self.resolve("r_hip_jc")?;
                 Ok(self.push(name, Def::Midpoint(l, r)))
+            }
+            (Some(side), "ankle_med") => self.medial_malleolus(name, side),
+            (None, "cervical_jc") => self.cervical_jc(name),
+            (None, "lumbar_jc") => self.lumbar_jc(name),
+            (Some(side), "mid_metatarsal") => {
+                let (mt1, mt5, mt2) = (side.name("mt1"), side.name("mt5"), side.name("mt2"));
+                if self.is_available(&mt1) && self.is_available(&mt5) {
+                    let a = self.resolve(&mt1)?;
+                    let b = self.resolve(&mt5)?;
+                    Ok(self.push(name, Def::Midpoint(a, b)))
+                } else if self.is_available(&mt2) {
+                    let a = self.resolve(&mt2)?;
+                    self.warnings.push(Warning::Approximation {
+                        what: format!("{name} taken at `{mt2}` (no {mt1} and {mt5})"),
+                    });
+                    Ok(self.push(name, Def::Mean(vec![a])))
+                } else {
+                    Err(self.missing(&mt1, &format!("the {name} needs {mt1} and {mt5}, or {mt2}")))
+                }
             }
             (None, "mid_shoulder") => {
                 let l = self.resolve("l_shoulder_jc")?;
@@ -676,6 +742,9 @@ impl<'a> Resolver<'a> {
                 name,
                 "[model] hip = \"given\" needs hip JC columns; or choose a regression",
             ));
+        }
+        if self.config.hip == HipMethod::Dumas2007 {
+            return self.dumas_hip_jc(name, side);
         }
         let l_asis = self.resolve("l_asis")?;
         let r_asis = self.resolve("r_asis")?;
@@ -766,6 +835,44 @@ impl<'a> Resolver<'a> {
         let toward_to = self.resolve(&other(side).name(toward_stem))?;
         self.warnings.push(Warning::Approximation {
             what: format!("{name} placed {offset_m:.3} m medial to {lat_name} ({width_key}/2 + marker radius)"),
+        });
+        Ok(self.push(
+            name,
+            Def::Medial {
+                lateral,
+                axis_from,
+                axis_to: lateral,
+                toward_from,
+                toward_to,
+                offset_m,
+            },
+        ))
+    }
+
+    /// The medial malleolus when only the lateral one is marked: the ankle width plus two
+    /// marker radii medial to the lateral marker, so that the malleolus midpoint is the ankle JC
+    /// of [`Resolver::epicondyle_jc`] (DESIGN.md 5; common practice, no source).
+    fn medial_malleolus(&mut self, name: &str, side: Side) -> Result<PointId, LandmarkError> {
+        let lat_name = side.name("ankle_lat");
+        if !self.is_available(&lat_name) {
+            return Err(self.missing(name, &Self::map_hint(name)));
+        }
+        let Some(width) = self.subject.ankle_width_m else {
+            return Err(LandmarkError::NeedsMeasurement {
+                landmark: name.to_string(),
+                what: format!("a marker, or `{lat_name}` and the ankle width"),
+                hint: format!(
+                    "map {name}, or give ankle_width_m (and marker_radius_m) in the subject"
+                ),
+            });
+        };
+        let offset_m = width + 2.0 * self.subject.marker_radius_m.unwrap_or(0.0);
+        let lateral = self.resolve(&lat_name)?;
+        let axis_from = self.resolve(&side.name("knee_jc"))?;
+        let toward_from = self.resolve(&side.name("asis"))?;
+        let toward_to = self.resolve(&other(side).name("asis"))?;
+        self.warnings.push(Warning::Approximation {
+            what: format!("{name} placed {offset_m:.3} m medial to {lat_name} (ankle_width_m + 2 marker radii)"),
         });
         Ok(self.push(
             name,

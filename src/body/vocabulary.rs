@@ -137,6 +137,21 @@ pub const VOCABULARY: &[LandmarkInfo] = &[
         Sidedness::Single,
         "midpoint of the two shoulder joint centers",
     ),
+    derived(
+        "cervical_jc",
+        Sidedness::Single,
+        "cervical joint center, C7/T1 (from C7 and the jugular notch; Dumas 2007)",
+    ),
+    derived(
+        "lumbar_jc",
+        Sidedness::Single,
+        "lumbar joint center, L5/S1 (in the pelvis frame; Dumas 2007)",
+    ),
+    derived(
+        "mid_metatarsal",
+        Sidedness::Sided,
+        "midpoint of the 1st and 5th metatarsal heads",
+    ),
 ];
 
 /// The vocabulary entry of a stem (`hip_jc`, `c7`), if known.

@@ -55,6 +55,10 @@ pub fn frames_header(r: &TrialResult) -> Vec<String> {
     for name in &r.segment_names {
         xyz(&mut h, &format!("seg_{name}"));
     }
+    if r.spread.is_some() {
+        h.push("com_spread_m".to_string());
+        xyz(&mut h, "com_spread");
+    }
     h
 }
 
@@ -198,6 +202,10 @@ fn push_row(r: &TrialResult, f: usize, buf: &mut Vec<u8>) {
     }
     for g in &r.segments {
         row.opt3(get3(g, f));
+    }
+    if let Some(s) = &r.spread {
+        row.opt(at(&s.spread_m, f));
+        row.opt3(get3(&s.axes_m, f));
     }
     row.buf.push(b'\n');
 }

@@ -96,6 +96,9 @@ pub struct Summary {
     /// `movement`, `movement_rule`, `gait`, `jump`, `reps`, `sway`.
     #[serde(flatten)]
     pub figures: crate::movement::MovementFigures,
+    /// The CoM's spread between models (`--spread`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub spread: Option<crate::com::spread::SpreadFigures>,
     pub warnings: Vec<String>,
     pub warning_details: Vec<Warning>,
     pub provenance: Provenance,
@@ -246,6 +249,7 @@ impl Summary {
             steps,
             lift,
             figures: r.movement.clone(),
+            spread: r.spread.as_ref().map(|s| s.figures()),
             warnings: warnings.iter().map(|w| w.to_string()).collect(),
             warning_details: warnings,
             provenance: Provenance {

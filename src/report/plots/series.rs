@@ -69,6 +69,32 @@ fn series_of(r: &TrialResult, f: impl Fn(usize) -> Option<f64>) -> Vec<Option<(f
 
 /// Spans (start, end) in seconds where the CoM's floor projection is outside the BoS, each
 /// frame covering half a sample period on either side.
+/// Runs of (time, lowest, highest) CoM height above the floor among the models of the spread.
+fn spread_band(r: &TrialResult) -> Vec<Vec<(f64, f64, f64)>> {
+    let Some(s) = &r.spread else {
+        return Vec::new();
+    };
+    let floor = r.support.floor_m;
+    let mut runs: Vec<Vec<(f64, f64, f64)>> = Vec::new();
+    let mut current = Vec::new();
+    for (i, t) in r.times_s.iter().enumerate() {
+        let lo = s.low_m.get(i).copied().flatten();
+        let hi = s.high_m.get(i).copied().flatten();
+        match lo.zip(hi) {
+            Some((lo, hi)) => {
+                let (a, b) = (r.up_axis.height(&lo) - floor, r.up_axis.height(&hi) - floor);
+                current.push((*t, a.min(b), a.max(b)));
+            }
+            None if !current.is_empty() => runs.push(std::mem::take(&mut current)),
+            None => {}
+        }
+    }
+    if !current.is_empty() {
+        runs.push(current);
+    }
+    runs
+}
+
 fn outside_spans(r: &TrialResult) -> Vec<(f64, f64)> {
     let half = 0.5 / r.rate_hz;
     let mut spans = Vec::new();
@@ -206,6 +232,7 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         "CoM height above the floor",
     )];
 
+    let band = spread_band(r);
     let panels_spec = [
         Panel {
             lines: &speed,
@@ -242,7 +269,16 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             continue;
         };
         let last = k + 1 == PANELS;
-        let range = style::value_range(lines.iter().flat_map(|l| l.values()), include, *min_span);
+        let band_values = band
+            .iter()
+            .flatten()
+            .filter(|_| k == 2)
+            .flat_map(|&(_, lo, hi)| [lo, hi]);
+        let range = style::value_range(
+            lines.iter().flat_map(|l| l.values()).chain(band_values),
+            include,
+            *min_span,
+        );
         let y = range.clone().unwrap_or(-1.0..1.0);
         let mut chart = ChartBuilder::on(chart_area)
             .margin_top(PANEL_MARGIN)
@@ -304,6 +340,28 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
                     "AP MoS at heel strike",
                 ));
             }
+        }
+        if k == 2 && !band.is_empty() {
+            chart.draw_series(band.iter().map(|run| {
+                // At most about two points per pixel column.
+                let step = (run.len() / (2 * columns).max(1)).max(1);
+                let kept: Vec<&(f64, f64, f64)> = run
+                    .iter()
+                    .enumerate()
+                    .filter(|(i, _)| i % step == 0 || *i + 1 == run.len())
+                    .map(|(_, p)| p)
+                    .collect();
+                let upper = kept.iter().map(|&&(t, _, hi)| (t, hi));
+                let lower = kept.iter().rev().map(|&&(t, lo, _)| (t, lo));
+                Polygon::new(
+                    upper.chain(lower).collect::<Vec<_>>(),
+                    style::COM.mix(0.2).filled(),
+                )
+            }))?;
+            legend.push(Entry::new(
+                Swatch::Patch(style::COM, 0.2),
+                "CoM height under every table and hip method (--spread)",
+            ));
         }
         for line in lines.iter() {
             for run in &line.runs {
