@@ -78,6 +78,16 @@ pub struct RawSupport {
     pub xcom_length: Option<RawLength>,
     pub midfoot_band_m: Option<f64>,
     pub gait_events: Option<String>,
+    /// `"segmental"` (default) or `"fused"` (the plate-fused CoM for XCoM and margins).
+    pub com: Option<String>,
+}
+
+/// `[[plate]]`: a force plate's corners in the lab (metres, in order around the plate).
+#[derive(Clone, Debug, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct RawPlate {
+    pub name: String,
+    pub corners_m: Vec<[f64; 3]>,
 }
 
 /// `[[load]]`: an external mass.
@@ -129,6 +139,8 @@ pub struct RawConfig {
     pub group: Vec<RawGroup>,
     #[serde(default, rename = "virtual")]
     pub virtual_landmarks: BTreeMap<String, RawVirtual>,
+    #[serde(default)]
+    pub plate: Vec<RawPlate>,
 }
 
 impl RawConfig {
@@ -252,6 +264,20 @@ pub struct SupportConfig {
     pub midfoot_band_m: Option<f64>,
     /// How heel strikes and toe-offs are found in walking trials.
     pub gait_events: GaitEventMethod,
+    /// Which CoM the XCoM and margins use.
+    pub com: ComSource,
+}
+
+/// The CoM the XCoM and margins use (`[support] com`).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ComSource {
+    /// The segmental CoM (`"segmental"`, the default).
+    #[default]
+    Segmental,
+    /// The plate-fused CoM where the ground reaction is complete, the segmental elsewhere
+    /// (`"fused"`).
+    Fused,
 }
 
 /// Gait-event method of walking trials (`[support] gait_events`).
@@ -298,6 +324,10 @@ pub struct Config {
     pub loads: Vec<Load>,
     pub groups: Vec<Group>,
     pub virtual_landmarks: BTreeMap<String, VirtualDef>,
+    /// Declared force plates (`[[plate]]`).
+    pub plates: Vec<crate::plates::PlateSetup>,
+    /// The trial's plate recording (`--plates`, the manifest's `plates` column).
+    pub plates_file: Option<std::path::PathBuf>,
 }
 
 /// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
@@ -524,11 +554,22 @@ impl Config {
                 min_flight_s: s.min_flight_s,
                 midfoot_band_m: s.midfoot_band_m,
                 gait_events,
+                com: match s.com.as_deref() {
+                    None | Some("segmental") => ComSource::Segmental,
+                    Some("fused") => ComSource::Fused,
+                    Some(other) => {
+                        return Err(invalid(format!(
+                            "[support] com = `{other}`; use \"segmental\" or \"fused\""
+                        )))
+                    }
+                },
             },
             xcom_length,
             loads,
             groups,
             virtual_landmarks,
+            plates: crate::plates::read::plate_setups(&raw.plate).map_err(invalid)?,
+            plates_file: None,
         })
     }
 

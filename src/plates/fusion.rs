@@ -9,13 +9,15 @@
 //! the fast motion, the markers the slow one.
 //!
 //! State per axis x = [p, v, b]: position (m), velocity (m/s) and an acceleration bias b
-//! (m/s²) that absorbs a force offset and a mass error (F/m with the wrong m is off by a nearly
-//! constant acceleration while the body is supported). Input u_k = F_k / m − g (up axis). The
-//! step is exact for an acceleration varying linearly within a frame:
-//! p' = p + v Δt + Δt²(2u_k + u_(k+1))/6 + b Δt²/2, v' = v + Δt(u_k + u_(k+1))/2 + b Δt,
-//! b' = b. Process noise: white acceleration of SD [`SIGMA_ACC_M_S2`] (force noise / m), bias
-//! random walk [`SIGMA_BIAS_M_S2`] per √s. Measurement: the segmental CoM position with SD
-//! [`SIGMA_KIN_M`].
+//! (m/s²) that absorbs a force offset and a mass error while the body is supported (F/m with
+//! the wrong m is off by a nearly constant acceleration then). Input u_k = F_k / m − g (up
+//! axis). The step is exact for an acceleration varying linearly within a frame:
+//! p' = p + v Δt + Δt²(2u_k + u_(k+1))/6 + ℓ b Δt²/2, v' = v + Δt(u_k + u_(k+1))/2 + ℓ b Δt,
+//! b' = b, with ℓ = 1 when the body is supported at either end of the step, 0 in flight.
+//! Process noise: white acceleration of SD [`SIGMA_ACC_M_S2`] (force noise / m) while
+//! supported and none in flight (no contact, no force: the acceleration is −g exactly, so the
+//! smoothed path is an exact parabola there), bias random walk [`SIGMA_BIAS_M_S2`] per √s.
+//! Measurement: the segmental CoM position with SD [`SIGMA_KIN_M`].
 //!
 //! Re-anchoring: every frame's segmental CoM is a measurement, so the fused path is tied to
 //! the markers throughout (bounded error, no drift). The crossover of the two sources lies near
@@ -45,17 +47,35 @@ pub struct Fused {
     pub bias_m_s2: f64,
 }
 
-/// Fuses one axis: `accel_m_s2[k]` = F/m − g at frame k, `kinematic_m[k]` the segmental CoM
-/// (or `None`), `dt_s` the frame interval. `None` for fewer than 2 frames or no measurement.
-pub fn fuse_axis(accel_m_s2: &[f64], kinematic_m: &[Option<f64>], dt_s: f64) -> Option<Fused> {
-    let n = accel_m_s2.len().min(kinematic_m.len());
+/// Fuses one axis: `accel_m_s2[k]` = F/m − g at frame k, `supported[k]` whether a foot
+/// bears load, `kinematic_m[k]` the segmental CoM (or `None`), `dt_s` the frame interval.
+/// `None` for fewer than 2 frames or no measurement.
+pub fn fuse_axis(
+    accel_m_s2: &[f64],
+    supported: &[bool],
+    kinematic_m: &[Option<f64>],
+    dt_s: f64,
+) -> Option<Fused> {
+    let n = accel_m_s2.len().min(kinematic_m.len()).min(supported.len());
     let first = kinematic_m.iter().take(n).position(Option::is_some)?;
     if n < 2 {
         return None;
     }
     let dt = dt_s;
-    let a = Matrix3::new(1.0, dt, dt * dt / 2.0, 0.0, 1.0, dt, 0.0, 0.0, 1.0);
+    let a_supported = Matrix3::new(1.0, dt, dt * dt / 2.0, 0.0, 1.0, dt, 0.0, 0.0, 1.0);
+    let a_flight = Matrix3::new(1.0, dt, 0.0, 0.0, 1.0, 0.0, 0.0, 0.0, 1.0);
     let qa = SIGMA_ACC_M_S2 * SIGMA_ACC_M_S2;
+    let q_flight = Matrix3::new(
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+        0.0,
+        SIGMA_BIAS_M_S2 * SIGMA_BIAS_M_S2 * dt,
+    );
     let mut q = Matrix3::new(
         qa * dt.powi(4) / 4.0,
         qa * dt.powi(3) / 2.0,
@@ -80,8 +100,17 @@ pub fn fuse_axis(accel_m_s2: &[f64], kinematic_m: &[Option<f64>], dt_s: f64) -> 
     let mut pf = Vec::with_capacity(n);
     let mut xp = Vec::with_capacity(n);
     let mut pp = Vec::with_capacity(n);
+    // The transition into each frame (index k: from k − 1 to k).
+    let step = |k: usize| {
+        if k > 0 && (supported[k - 1] || supported[k]) {
+            (a_supported, q)
+        } else {
+            (a_flight, q_flight)
+        }
+    };
     for k in 0..n {
         if k > 0 {
+            let (a, q) = step(k);
             let (u0, u1) = (accel_m_s2[k - 1], accel_m_s2[k]);
             let drive = Vector3::new(dt * dt * (2.0 * u0 + u1) / 6.0, dt * (u0 + u1) / 2.0, 0.0);
             x = a * x + drive;
@@ -104,6 +133,7 @@ pub fn fuse_axis(accel_m_s2: &[f64], kinematic_m: &[Option<f64>], dt_s: f64) -> 
     let mut xs = xf.clone();
     let mut ps = pf.clone();
     for k in (0..n - 1).rev() {
+        let (a, _) = step(k + 1);
         let inv = pp[k + 1].try_inverse()?;
         let c = pf[k] * a.transpose() * inv;
         xs[k] = xf[k] + c * (xs[k + 1] - xp[k + 1]);
@@ -137,7 +167,7 @@ mod tests {
         let noise =
             |k: usize| ((k as f64 * 12.9898).sin() * 43758.5453).fract() * 0.002 * 3f64.sqrt();
         let kin: Vec<Option<f64>> = (0..n).map(|k| Some(truth[k] + noise(k))).collect();
-        let f = fuse_axis(&acc, &kin, dt).unwrap();
+        let f = fuse_axis(&acc, &vec![true; n], &kin, dt).unwrap();
         let max = f
             .position_m
             .iter()
@@ -158,7 +188,7 @@ mod tests {
         let n = 1000;
         let acc = vec![0.5 / 70.0; n];
         let kin: Vec<Option<f64>> = vec![Some(0.0); n];
-        let f = fuse_axis(&acc, &kin, dt).unwrap();
+        let f = fuse_axis(&acc, &vec![true; n], &kin, dt).unwrap();
         let max = f.position_m.iter().map(|p| p.abs()).fold(0.0, f64::max);
         assert!(max < 0.001, "max {max}");
         assert!(
@@ -166,5 +196,24 @@ mod tests {
             "bias {}",
             f.bias_m_s2
         );
+    }
+
+    /// In flight (no support) the smoothed path is an exact parabola: second differences −g.
+    #[test]
+    fn flight_is_an_exact_parabola() {
+        let dt = 0.005;
+        let n = 200;
+        let supported: Vec<bool> = (0..n).map(|k| !(60..150).contains(&k)).collect();
+        let acc: Vec<f64> = (0..n)
+            .map(|k| if supported[k] { 0.3 } else { -9.81 })
+            .collect();
+        let kin: Vec<Option<f64>> = (0..n)
+            .map(|k| Some(1.0 + 0.002 * ((k as f64 * 7.3).sin())))
+            .collect();
+        let f = fuse_axis(&acc, &supported, &kin, dt).unwrap();
+        for k in 61..149 {
+            let a = (f.position_m[k + 1] - 2.0 * f.position_m[k] + f.position_m[k - 1]) / (dt * dt);
+            assert!((a + 9.81).abs() < 1e-6, "frame {k}: {a}");
+        }
     }
 }

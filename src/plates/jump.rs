@@ -15,7 +15,7 @@ use super::LOADED_N;
 use crate::synth::G_M_S2;
 
 /// Quiet standing at the start of a jump trial used to weigh the body, s.
-pub const WEIGHING_S: f64 = 0.5;
+pub const WEIGHING_S: f64 = 0.3;
 /// Shortest flight, s (common practice, no source).
 pub const MIN_FLIGHT_S: f64 = 0.1;
 

@@ -571,6 +571,8 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
     // Fused CoM over stretches of complete frames.
     let mut com_fused = vec![None; n];
     let mut velocity_fused = vec![None; n];
+    // Supported: a plate loaded (in complete frames every foot in contact is on a plate).
+    let supported: Vec<bool> = (0..n).map(|f| frames.iter().any(|p| p.loaded[f])).collect();
     let dt = 1.0 / k.rate_hz;
     let mut f = 0;
     while f < n {
@@ -593,7 +595,7 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
             let kin: Vec<Option<f64>> = (start..f)
                 .map(|j| k.com.get(j).copied().flatten().map(|c| c[a]))
                 .collect();
-            axes.push(fusion::fuse_axis(&acc, &kin, dt));
+            axes.push(fusion::fuse_axis(&acc, &supported[start..f], &kin, dt));
         }
         if let [Some(x), Some(y), Some(z)] = axes.as_slice() {
             for j in start..f {
@@ -739,5 +741,62 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
             jump,
         },
         warnings,
+    }
+}
+
+/// The fused CoM and velocity where they exist, the segmental ones elsewhere (for
+/// `[support] com = "fused"`).
+pub fn fused_or_segmental(
+    com: &[Option<[f64; 3]>],
+    velocity: &[Option<[f64; 3]>],
+    plates: &PlateSeries,
+) -> (Vec<Option<[f64; 3]>>, Vec<Option<[f64; 3]>>) {
+    let pick = |seg: &[Option<[f64; 3]>], fused: &[Option<[f64; 3]>]| {
+        seg.iter()
+            .enumerate()
+            .map(|(i, s)| fused.get(i).copied().flatten().or(*s))
+            .collect()
+    };
+    (
+        pick(com, &plates.com_fused),
+        pick(velocity, &plates.velocity_fused),
+    )
+}
+
+/// The `frames.csv` columns of the plate stage, in order.
+pub const FRAME_COLUMNS: [&str; 13] = [
+    "grf_x_n",
+    "grf_y_n",
+    "grf_z_n",
+    "cop_x_m",
+    "cop_y_m",
+    "cop_z_m",
+    "grf_complete",
+    "com_fused_x_m",
+    "com_fused_y_m",
+    "com_fused_z_m",
+    "com_fused_vx_m_s",
+    "com_fused_vy_m_s",
+    "com_fused_vz_m_s",
+];
+
+/// The `steps.csv` cells `plate` (empty when none) and `clean_strike` (`true` / `false`) of
+/// the step of `side` (`left` / `right`) starting at `heel_strike_s`.
+pub fn step_plate(
+    plates: &PlateSeries,
+    times_s: &[f64],
+    rate_hz: f64,
+    side: &str,
+    heel_strike_s: f64,
+) -> (String, bool) {
+    let side = usize::from(side == "right");
+    let t0 = times_s.first().copied().unwrap_or(0.0);
+    let frame = ((heel_strike_s - t0) * rate_hz).round().max(0.0) as usize;
+    // The contact holding the heel strike, or the first one beginning within 3 frames after it
+    // (the kinematic contact may start a little later than the event).
+    let strike = (0..=3).find_map(|d| plates.strike_at(side, frame + d));
+    match strike {
+        Some(s) => (s.plate.clone().unwrap_or_default(), s.clean),
+        None => (String::new(), false),
     }
 }

@@ -55,6 +55,9 @@ pub fn frames_header(r: &TrialResult) -> Vec<String> {
     for name in &r.segment_names {
         xyz(&mut h, &format!("seg_{name}"));
     }
+    if r.plates.is_some() {
+        h.extend(crate::plates::FRAME_COLUMNS.iter().map(|c| c.to_string()));
+    }
     h
 }
 
@@ -199,6 +202,13 @@ fn push_row(r: &TrialResult, f: usize, buf: &mut Vec<u8>) {
     for g in &r.segments {
         row.opt3(get3(g, f));
     }
+    if let Some(p) = &r.plates {
+        row.opt3(get3(&p.grf_n, f));
+        row.opt3(get3(&p.cop_m, f));
+        row.flag(p.grf_complete.get(f).copied().unwrap_or(false));
+        row.opt3(get3(&p.com_fused, f));
+        row.opt3(get3(&p.velocity_fused, f));
+    }
     row.buf.push(b'\n');
 }
 
@@ -226,10 +236,14 @@ pub fn write_reps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
 
 /// Writes `steps.csv`: one row per heel strike (DESIGN.md 7).
 pub fn write_steps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
-    writeln!(
+    write!(
         w,
         "side,heel_strike_s,toe_off_s,step_length_m,step_width_m,mos_ap_heel_strike_m,mos_ml_heel_strike_m,min_mos_ml_single_stance_m,com_vertical_excursion_m"
     )?;
+    if r.plates.is_some() {
+        w.write_all(b",plate,clean_strike")?;
+    }
+    w.write_all(b"\n")?;
     for s in &r.support.steps {
         write!(w, "{},{:.6}", s.side, s.heel_strike_s)?;
         for v in [
@@ -242,6 +256,11 @@ pub fn write_steps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
             s.com_vertical_excursion_m,
         ] {
             opt(&mut w, v)?;
+        }
+        if let Some(p) = &r.plates {
+            let (plate, clean) =
+                crate::plates::step_plate(p, &r.times_s, r.rate_hz, s.side, s.heel_strike_s);
+            write!(w, ",{plate},{clean}")?;
         }
         w.write_all(b"\n")?;
     }

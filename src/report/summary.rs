@@ -93,6 +93,9 @@ pub struct Summary {
     pub support: SupportFigures,
     pub steps: Vec<StepMeans>,
     pub lift: Option<LiftFigures>,
+    /// Force plates: cross-check, implied mass, strikes, fused CoM, sway, jump.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub plates: Option<crate::plates::PlateFigures>,
     pub warnings: Vec<String>,
     pub warning_details: Vec<Warning>,
     pub provenance: Provenance,
@@ -242,6 +245,7 @@ impl Summary {
             support,
             steps,
             lift,
+            plates: r.plates.as_ref().map(|p| p.figures.clone()),
             warnings: warnings.iter().map(|w| w.to_string()).collect(),
             warning_details: warnings,
             provenance: Provenance {
