@@ -18,8 +18,9 @@
 //!   loaded in at least [`MIN_LOADED_SHARE`] of the contact's frames (the load covers the
 //!   contact). A strike is **clean** when its foot stands on the plate and no other foot
 //!   touches that plate during the contact. `grf_complete`: every foot in contact stands on a
-//!   plate, or no foot is in contact (common practice, no source). Incomplete frames have no
-//!   kinetic figures.
+//!   plate, or no foot is in contact, and no contact off the plates begins or ends within
+//!   [`OFF_PLATE_PAD_S`] (common practice, no source). Incomplete frames have no kinetic
+//!   figures.
 //! - A plate's CoP is checked against the foot on it: in a clean strike the CoP must lie
 //!   within the sole outline (within [`COP_ON_FOOT_TOLERANCE_M`]) in at least half the loaded
 //!   frames. A plate that fails has its CoP ignored (no net CoP while it is loaded) and a
@@ -66,6 +67,9 @@ pub const ON_PLATE_TOLERANCE_M: f64 = 0.01;
 pub const COP_ON_FOOT_TOLERANCE_M: f64 = 0.03;
 /// Implied-mass difference that warns, % of the declared mass.
 pub const MASS_WARNING_PERCENT: f64 = 5.0;
+/// Frames this close to a foot contact off the plates are not complete, s (kinematic contact
+/// starts a frame or two after the first load; common practice, no source).
+pub const OFF_PLATE_PAD_S: f64 = 0.03;
 /// Shortest stretch of complete frames that is fused, frames.
 pub const MIN_FUSED_FRAMES: usize = 10;
 
@@ -336,6 +340,7 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
             });
         }
     }
+    strikes.sort_by(|a, b| a.on_s.total_cmp(&b.on_s));
     // Two feet on one plate at once: neither strike is clean.
     for i in 0..strikes.len() {
         for j in 0..strikes.len() {
@@ -401,13 +406,23 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
     let mut grf_n = vec![None; n];
     let mut cop_m = vec![None; n];
     let mut grf_complete = vec![false; n];
+    // Frames near a contact off the plates: the markers see a foot land a frame or two after
+    // it bears its first load.
+    let pad = (OFF_PLATE_PAD_S * k.rate_hz).ceil() as usize;
+    let mut near_off_plate = vec![false; n];
+    for s in strikes.iter().filter(|s| !s.on_plate) {
+        for slot in &mut near_off_plate[s.frames.0.saturating_sub(pad)..(s.frames.1 + pad).min(n)] {
+            *slot = true;
+        }
+    }
     for f in 0..n {
-        let feet_ok = (0..2).all(|side| {
-            !k.contact[side].get(f).copied().unwrap_or(false)
-                || strikes.iter().any(|s| {
-                    s.side_index == side && s.frames.0 <= f && f < s.frames.1 && s.on_plate
-                })
-        });
+        let feet_ok = !near_off_plate[f]
+            && (0..2).all(|side| {
+                !k.contact[side].get(f).copied().unwrap_or(false)
+                    || strikes.iter().any(|s| {
+                        s.side_index == side && s.frames.0 <= f && f < s.frames.1 && s.on_plate
+                    })
+            });
         let mut total = [0.0; 3];
         let mut known = true;
         let (mut fu_sum, mut q) = (0.0, [0.0; 3]);

@@ -3,7 +3,9 @@
 //! **Zero offset.** From the samples the recording names (C3D `FORCE_PLATFORM:ZERO`,
 //! [`ZeroSource::Samples`]), else from the plate's unloaded samples (vertical force below
 //! [`LOADED_N`], [`ZeroSource::Unloaded`]; at least [`MIN_UNLOADED`] of them, otherwise none is
-//! removed): the mean force vector over those samples is subtracted from every sample. The CoP
+//! removed): the median of each force component over those samples is subtracted from every
+//! sample (the median, so the few samples of a foot landing or leaving under the threshold do
+//! not bias it). The CoP
 //! given by the recording is kept as given.
 //!
 //! **Resampling rule.** Each marker frame at time t gets the mean of the analog signal over
@@ -39,10 +41,10 @@ pub fn remove_zero_offset(rec: &mut PlateRecording, up: UpAxis) {
             continue;
         }
         let mut mean = [0.0; 3];
-        for &i in &chosen {
-            for k in 0..3 {
-                mean[k] += p.force_n[i][k] / chosen.len() as f64;
-            }
+        for (k, m) in mean.iter_mut().enumerate() {
+            let mut v: Vec<f64> = chosen.iter().map(|&i| p.force_n[i][k]).collect();
+            v.sort_by(f64::total_cmp);
+            *m = v[v.len() / 2];
         }
         for f in &mut p.force_n {
             for k in 0..3 {
