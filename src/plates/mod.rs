@@ -16,7 +16,11 @@
 //!   the plate's declared corners (within [`ON_PLATE_TOLERANCE_M`]) in every frame of its
 //!   contact and the plate is loaded; for plates without declared corners, when the plate is
 //!   loaded in at least [`MIN_LOADED_SHARE`] of the contact's frames (the load covers the
-//!   contact). A strike is **clean** when its foot stands on the plate and no other foot
+//!   contact). The plate of a contact is the one whose loading begins within
+//!   [`ONSET_TOLERANCE_S`] of the contact's onset (the nearest; and among plates with corners
+//!   only one the sole outline touches); without corners a plate's load goes to the contact
+//!   that began nearest its onset (two contacts share it when they begin within a frame of
+//!   each other). A strike is **clean** when its foot stands on the plate and no other foot
 //!   touches that plate during the contact. `grf_complete`: every foot in contact stands on a
 //!   plate, or no foot is in contact, and no contact off the plates begins or ends within
 //!   [`OFF_PLATE_PAD_S`] (common practice, no source). Incomplete frames have no kinetic
@@ -36,7 +40,8 @@
 //! - Fused CoM: [`fusion`] (Kalman filter and Rauch-Tung-Striebel smoother; Le Mouel 2025,
 //!   Peer Community Journal 5:e10; Maus et al. 2011, J Exp Biol 214:3511).
 //! - Quiet standing: [`sway`] (gravity-line method, Zatsiorsky & King 1998, J Biomech
-//!   31:161). Jumps: [`jump`] (impulse-momentum and flight time).
+//!   31:161). Jumps: [`jump`] (impulse-momentum and flight time), from the analog samples of
+//!   complete frames.
 //!
 //! The CoM these figures check comes from generic segment tables: it carries centimetre-level
 //! error, the figures are not diagnostic, and decisions belong to licensed practitioners.
@@ -59,6 +64,9 @@ use serde::Serialize;
 /// Vertical force above which a plate counts as loaded, N (10-20 N is usual; common practice,
 /// no source).
 pub const LOADED_N: f64 = 20.0;
+/// Largest gap between a foot's contact onset and its plate's loading onset, s (kinematic
+/// contact is found within a few frames of the force onset; common practice, no source).
+pub const ONSET_TOLERANCE_S: f64 = 0.05;
 /// Share of a contact's frames its plate must be loaded in (plates without corners).
 pub const MIN_LOADED_SHARE: f64 = 0.7;
 /// How far a sole outline may reach beyond a plate's edge, m (marker and sole; from memory).
@@ -300,45 +308,76 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
         .collect();
     let outline = |side: usize, f: usize| geometry::sole_outline(k.foot, side, f, up);
 
-    // Strikes: each foot contact and its plate.
-    let mut strikes: Vec<Strike> = Vec::new();
-    for side in 0..2 {
-        for (on, off) in transitions(&k.contact[side]) {
-            let len = (off - on).max(1);
-            let mut best: Option<(usize, usize)> = None;
-            for (p, pf) in frames.iter().enumerate() {
-                let loaded = (on..off)
-                    .filter(|&f| pf.loaded.get(f).copied().unwrap_or(false))
-                    .count();
+    // Strikes: each foot contact and its plate. Candidates: the loaded runs of each plate that
+    // begin within ONSET_TOLERANCE_S of the contact (a run already loaded at the first frame
+    // counts as beginning there) and, for plates with corners, whose outline the foot touches.
+    // Each run goes to the contacts with the smallest onset gap (several when they land within
+    // a frame of each other: both feet on one plate).
+    let contacts: Vec<(usize, (usize, usize))> = (0..2)
+        .flat_map(|side| transitions(&k.contact[side]).into_iter().map(move |c| (side, c)))
+        .collect();
+    let tolerance = (ONSET_TOLERANCE_S * k.rate_hz).ceil() as usize;
+    let runs: Vec<Vec<(usize, usize)>> = frames.iter().map(|pf| transitions(&pf.loaded)).collect();
+    // (gap, contact, plate, run)
+    let mut candidates: Vec<(usize, usize, usize, usize)> = Vec::new();
+    for (c, &(side, (on, off))) in contacts.iter().enumerate() {
+        for (p, plate_runs) in runs.iter().enumerate() {
+            for (r, &(start, end)) in plate_runs.iter().enumerate() {
+                let gap = start.abs_diff(on);
+                if gap > tolerance || start >= off || end <= on {
+                    continue;
+                }
                 let touches = match &hulls[p] {
-                    Some(h) => (on..off)
-                        .any(|f| outline(side, f).is_some_and(|o| geometry::overlaps(&o, h))),
+                    Some(h) => (on..off).any(|f| {
+                        outline(side, f).is_some_and(|o| geometry::overlaps(&o, h))
+                    }),
                     None => true,
                 };
-                if loaded > 0 && touches && best.is_none_or(|(_, b)| loaded > b) {
-                    best = Some((p, loaded));
+                if touches {
+                    candidates.push((gap, c, p, r));
                 }
             }
-            let on_plate = best.is_some_and(|(p, loaded)| match &hulls[p] {
-                Some(h) => (on..off).all(|f| {
-                    outline(side, f)
-                        .is_none_or(|o| geometry::hull_inside(&o, h, ON_PLATE_TOLERANCE_M))
-                }),
-                None => loaded as f64 >= MIN_LOADED_SHARE * len as f64,
-            });
-            strikes.push(Strike {
-                side: SIDES[side],
-                on_s: k.times_s[on],
-                off_s: k.times_s[off.min(n) - 1],
-                plate: best.map(|(p, _)| rec.plates[p].name.clone()),
-                on_plate,
-                clean: on_plate,
-                cop_on_foot_share: None,
-                cop_off_foot_median_m: None,
-                frames: (on, off),
-                side_index: side,
-            });
         }
+    }
+    candidates.sort();
+    let mut assigned: Vec<Option<(usize, usize)>> = vec![None; contacts.len()];
+    let mut best_gap: std::collections::HashMap<(usize, usize), usize> = Default::default();
+    for &(gap, c, p, r) in &candidates {
+        if assigned[c].is_some() {
+            continue;
+        }
+        let shared = hulls[p].is_some();
+        match best_gap.get(&(p, r)) {
+            Some(&g) if !shared && gap > g + 1 => continue,
+            _ => {}
+        }
+        best_gap.entry((p, r)).or_insert(gap);
+        assigned[c] = Some((p, r));
+    }
+    let mut strikes: Vec<Strike> = Vec::new();
+    for (c, &(side, (on, off))) in contacts.iter().enumerate() {
+        let len = (off - on).max(1);
+        let on_plate = assigned[c].is_some_and(|(p, r)| match &hulls[p] {
+            Some(h) => (on..off).all(|f| {
+                outline(side, f).is_none_or(|o| geometry::hull_inside(&o, h, ON_PLATE_TOLERANCE_M))
+            }),
+            None => {
+                let (start, end) = runs[p][r];
+                (on.max(start)..off.min(end)).len() as f64 >= MIN_LOADED_SHARE * len as f64
+            }
+        });
+        strikes.push(Strike {
+            side: SIDES[side],
+            on_s: k.times_s[on],
+            off_s: k.times_s[off.min(n) - 1],
+            plate: assigned[c].map(|(p, _)| rec.plates[p].name.clone()),
+            on_plate,
+            clean: on_plate,
+            cop_on_foot_share: None,
+            cop_off_foot_median_m: None,
+            frames: (on, off),
+            side_index: side,
+        });
     }
     strikes.sort_by(|a, b| a.on_s.total_cmp(&b.on_s));
     // Two feet on one plate at once: neither strike is clean.
@@ -717,8 +756,23 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
         None
     };
 
-    let vertical: Vec<Option<f64>> = grf_n.iter().map(|g| g.map(|g| up.height(&g))).collect();
-    let jump = jump::jump_figures(&vertical, k.times_s, k.rate_hz);
+    // Jumps at the analog rate: the sum of the plates' vertical forces, where the frame
+    // holding the sample is complete.
+    let analog_n = rec.plates.first().map_or(0, |p| p.force_n.len());
+    let analog_times: Vec<f64> = (0..analog_n)
+        .map(|i| rec.first_time_s + i as f64 / rec.rate_hz)
+        .collect();
+    let t_first = k.times_s.first().copied().unwrap_or(0.0);
+    let analog_vertical: Vec<Option<f64>> = (0..analog_n)
+        .map(|i| {
+            let f = ((analog_times[i] - t_first) * k.rate_hz).round();
+            if f < 0.0 || f as usize >= n || !grf_complete[f as usize] {
+                return None;
+            }
+            Some(rec.plates.iter().map(|p| up.height(&p.force_n[i])).sum())
+        })
+        .collect();
+    let jump = jump::jump_figures(&analog_vertical, &analog_times, rec.rate_hz);
 
     let plates = rec
         .plates
