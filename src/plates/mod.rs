@@ -314,7 +314,11 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
     // Each run goes to the contacts with the smallest onset gap (several when they land within
     // a frame of each other: both feet on one plate).
     let contacts: Vec<(usize, (usize, usize))> = (0..2)
-        .flat_map(|side| transitions(&k.contact[side]).into_iter().map(move |c| (side, c)))
+        .flat_map(|side| {
+            transitions(&k.contact[side])
+                .into_iter()
+                .map(move |c| (side, c))
+        })
         .collect();
     let tolerance = (ONSET_TOLERANCE_S * k.rate_hz).ceil() as usize;
     let runs: Vec<Vec<(usize, usize)>> = frames.iter().map(|pf| transitions(&pf.loaded)).collect();
@@ -328,9 +332,8 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
                     continue;
                 }
                 let touches = match &hulls[p] {
-                    Some(h) => (on..off).any(|f| {
-                        outline(side, f).is_some_and(|o| geometry::overlaps(&o, h))
-                    }),
+                    Some(h) => (on..off)
+                        .any(|f| outline(side, f).is_some_and(|o| geometry::overlaps(&o, h))),
                     None => true,
                 };
                 if touches {
