@@ -121,6 +121,8 @@ fn real_walk_plates() {
         .unwrap()
         .ends_with(",plate,clean_strike"));
     assert!(steps.contains(",plate5,true") && steps.contains(",plate4,true"));
+    // series.png is written (its fourth panel is the cross-check).
+    assert!(trial.join("series.png").exists());
     // frames.csv carries the plate columns.
     let frames = std::fs::read_to_string(trial.join("frames.csv")).unwrap();
     let header = frames.lines().next().unwrap();
