@@ -50,15 +50,7 @@ fn real_walk_plates() {
         .unwrap()
         .args(["trial"])
         .arg(dir.join("trial.csv"))
-        .args([
-            "--mass-kg",
-            "72",
-            "--height-m",
-            "1.75",
-            "--sex",
-            "male",
-            "--no-plots",
-        ])
+        .args(["--mass-kg", "72", "--height-m", "1.75", "--sex", "male"])
         .arg("--config")
         .arg(&config)
         .arg("--plates")
