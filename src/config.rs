@@ -715,6 +715,7 @@ max_gap_s = 0.10      # longest interior gap bridged by the cubic spline
 xcom_length = "leg"       # pendulum length for the XCoM: "leg" or metres
 # midfoot_band_m = 0.05   # lifts: half-width of the mid-foot band
 gait_events = "zeni-bonci" # walking: "zeni-bonci" (Zeni 2008 refined by Bonci 2022) or "zeni"
+com = "segmental"         # CoM of the XCoM and margins: "segmental" or "fused" (with --plates)
 
 # [[load]]                 # an external mass (barbell, dumbbell)
 # name = "bar"
@@ -725,6 +726,10 @@ gait_events = "zeni-bonci" # walking: "zeni-bonci" (Zeni 2008 refined by Bonci 2
 # [[group]]                # a subsystem with its own CoM columns
 # name = "legs"
 # segments = ["l_thigh", "l_shank", "l_foot", "r_thigh", "r_shank", "r_foot"]
+
+# [[plate]]                # a force plate of --plates: its corners in the lab, metres, in order
+# name = "plate1"
+# corners_m = [[0.6, 0.2, 0.0], [0.0, 0.2, 0.0], [0.0, -0.2, 0.0], [0.6, -0.2, 0.0]]
 
 [virtual]
 # l_toe = { along = ["l_heel", "l_mt2"], fraction = 1.3 }

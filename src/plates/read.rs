@@ -294,6 +294,27 @@ mod tests {
     }
 
     #[test]
+    fn plate_tables_need_four_corners_and_com_one_of_two_words() {
+        let parse = |t: &str| {
+            crate::config::Config::from_raw(
+                &crate::config::RawConfig::from_toml(t, "c.toml").unwrap(),
+                "c.toml",
+            )
+        };
+        let ok = parse("[support]\ncom = \"fused\"\n[[plate]]\nname = \"p1\"\ncorners_m = [[0.6, 0.2, 0.0], [0.0, 0.2, 0.0], [0.0, -0.2, 0.0], [0.6, -0.2, 0.0]]\n").unwrap();
+        assert_eq!(ok.plates.len(), 1);
+        assert_eq!(ok.support.com, crate::config::ComSource::Fused);
+        let e = parse("[[plate]]\nname = \"p1\"\ncorners_m = [[0.0, 0.0, 0.0]]\n")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("c.toml") && e.contains("four"), "{e}");
+        let e = parse("[support]\ncom = \"plates\"\n")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("segmental"), "{e}");
+    }
+
+    #[test]
     fn moments_without_corners_are_an_error() {
         let text = "time_s,a_fx_n,a_fy_n,a_fz_n,a_mx_nm,a_my_nm,a_mz_nm\n0,0,0,0,0,0,0\n";
         let e = read_plates_csv(text, "p.csv", &[], Y_UP)
