@@ -123,10 +123,10 @@ fn walk_over_plates() {
         .collect();
     let mut checked = 0;
     let (mut sum_sq, mut count) = (0.0, 0usize);
-    for f in 0..r.times_s.len() {
-        let Some(g) = p.grf_n[f] else { continue };
-        for k in 0..3 {
-            let exact = resampled[k][f].unwrap();
+    for (f, g) in p.grf_n.iter().enumerate() {
+        let Some(g) = *g else { continue };
+        for (k, series) in resampled.iter().enumerate() {
+            let exact = series[f].unwrap();
             assert!(
                 (g[k] - exact).abs() < 0.001 * weight,
                 "frame {f} axis {k}: {} vs {exact}",

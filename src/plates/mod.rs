@@ -61,6 +61,9 @@ use crate::trial::UpAxis;
 use crate::warning::Warning;
 use serde::Serialize;
 
+/// A per-frame series of points or vectors (`None` where absent).
+pub type Series = Vec<Option<[f64; 3]>>;
+
 /// Vertical force above which a plate counts as loaded, N (10-20 N is usual; common practice,
 /// no source).
 pub const LOADED_N: f64 = 20.0;
@@ -596,8 +599,8 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
     let mut inside = 0usize;
     let mut counted = 0usize;
     let mut max_out: f64 = 0.0;
-    for f in 0..n {
-        let Some(c) = cop_m[f] else { continue };
+    for (f, c) in cop_m.iter().enumerate() {
+        let Some(c) = *c else { continue };
         let mut pts: Vec<[f64; 2]> = Vec::new();
         for side in 0..2 {
             if k.contact[side].get(f).copied().unwrap_or(false) {
@@ -822,7 +825,7 @@ pub fn fused_or_segmental(
     com: &[Option<[f64; 3]>],
     velocity: &[Option<[f64; 3]>],
     plates: &PlateSeries,
-) -> (Vec<Option<[f64; 3]>>, Vec<Option<[f64; 3]>>) {
+) -> (Series, Series) {
     let pick = |seg: &[Option<[f64; 3]>], fused: &[Option<[f64; 3]>]| {
         seg.iter()
             .enumerate()

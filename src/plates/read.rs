@@ -263,6 +263,46 @@ struct Columns {
     corners: Option<[[f64; 3]; 4]>,
 }
 
+/// Validates `[[plate]]` tables: four finite corners, a name of letters, digits and `_`, no
+/// name twice. The error text is the message (the caller adds the file).
+pub fn plate_setups(raw: &[crate::config::RawPlate]) -> Result<Vec<PlateSetup>, String> {
+    let mut out: Vec<PlateSetup> = Vec::new();
+    for p in raw {
+        if p.name.is_empty()
+            || !p
+                .name
+                .chars()
+                .all(|c| c.is_ascii_alphanumeric() || c == '_')
+        {
+            return Err(format!(
+                "[[plate]] name = `{}`; use letters, digits and _",
+                p.name
+            ));
+        }
+        if out.iter().any(|q| q.name.eq_ignore_ascii_case(&p.name)) {
+            return Err(format!("[[plate]] `{}` is declared twice", p.name));
+        }
+        let corners: [[f64; 3]; 4] = p.corners_m.as_slice().try_into().map_err(|_| {
+            format!(
+                "[[plate]] `{}`: corners_m has {} points; give four [x, y, z] in metres, in order around the plate",
+                p.name,
+                p.corners_m.len()
+            )
+        })?;
+        if corners.iter().flatten().any(|v| !v.is_finite()) {
+            return Err(format!(
+                "[[plate]] `{}`: a corner is not a finite number",
+                p.name
+            ));
+        }
+        out.push(PlateSetup {
+            name: p.name.clone(),
+            corners_m: corners,
+        });
+    }
+    Ok(out)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -322,44 +362,4 @@ mod tests {
             .to_string();
         assert!(e.contains("[[plate]]"), "{e}");
     }
-}
-
-/// Validates `[[plate]]` tables: four finite corners, a name of letters, digits and `_`, no
-/// name twice. The error text is the message (the caller adds the file).
-pub fn plate_setups(raw: &[crate::config::RawPlate]) -> Result<Vec<PlateSetup>, String> {
-    let mut out: Vec<PlateSetup> = Vec::new();
-    for p in raw {
-        if p.name.is_empty()
-            || !p
-                .name
-                .chars()
-                .all(|c| c.is_ascii_alphanumeric() || c == '_')
-        {
-            return Err(format!(
-                "[[plate]] name = `{}`; use letters, digits and _",
-                p.name
-            ));
-        }
-        if out.iter().any(|q| q.name.eq_ignore_ascii_case(&p.name)) {
-            return Err(format!("[[plate]] `{}` is declared twice", p.name));
-        }
-        let corners: [[f64; 3]; 4] = p.corners_m.as_slice().try_into().map_err(|_| {
-            format!(
-                "[[plate]] `{}`: corners_m has {} points; give four [x, y, z] in metres, in order around the plate",
-                p.name,
-                p.corners_m.len()
-            )
-        })?;
-        if corners.iter().flatten().any(|v| !v.is_finite()) {
-            return Err(format!(
-                "[[plate]] `{}`: a corner is not a finite number",
-                p.name
-            ));
-        }
-        out.push(PlateSetup {
-            name: p.name.clone(),
-            corners_m: corners,
-        });
-    }
-    Ok(out)
 }

@@ -172,7 +172,7 @@ pub fn to_frames(
                 let u = force.map(|f| up.height(&f));
                 let loaded = u.is_some_and(|u| u >= LOADED_N);
                 let cop = match (loaded, qm[0][j], qm[1][j], qm[2][j], miss[j]) {
-                    (true, Some(a), Some(b), Some(c), Some(m)) if m == 0.0 => {
+                    (true, Some(a), Some(b), Some(c), Some(0.0)) => {
                         let u = u.unwrap_or(1.0);
                         Some([a / u, b / u, c / u])
                     }

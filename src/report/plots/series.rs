@@ -142,7 +142,7 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     )?;
     let n_panels = panel_count(r);
     let tops = panel_rows(n_panels);
-    let panels = body.split_by_breakpoints([w - style::LEGEND_W], tops[1..].to_vec());
+    let panels = body.split_by_breakpoints([w - style::LEGEND_W], &tops[1..]);
     let t = time_range(r);
     let layout = view(r);
     let columns = (w - style::LEGEND_W - 2 * style::MARGIN - style::Y_LABEL_W) as usize;
