@@ -29,7 +29,8 @@
 //!   within the sole outline (within [`COP_ON_FOOT_TOLERANCE_M`]) in at least half the loaded
 //!   frames. A plate that fails has its CoP ignored (no net CoP while it is loaded) and a
 //!   warning giving the median distance of its CoP from the foot; its force is kept.
-//! - Cross-check over complete frames with a kinematic acceleration: residual
+//! - Cross-check over complete frames with a kinematic acceleration, more than [`EDGE_S`]
+//!   from either end of the trial: residual
 //!   m (a + g) − GRF per lab axis (Newton's second law for the whole body), RMS in % of body
 //!   weight m g, Pearson correlation of m (a + g) and GRF per axis.
 //! - Implied mass: mean F_up / g over complete frames for a static trial (mean horizontal
@@ -81,6 +82,10 @@ pub const MASS_WARNING_PERCENT: f64 = 5.0;
 /// Frames this close to a foot contact off the plates are not complete, s (kinematic contact
 /// starts a frame or two after the first load; common practice, no source).
 pub const OFF_PLATE_PAD_S: f64 = 0.03;
+/// Frames this close to either end of the trial are left out of the cross-check and the
+/// mass fit: the derivatives of the low-passed CoM are least reliable there (common practice,
+/// no source), s.
+pub const EDGE_S: f64 = 0.1;
 /// Shortest stretch of complete frames that is fused, frames.
 pub const MIN_FUSED_FRAMES: usize = 10;
 
@@ -511,7 +516,12 @@ pub fn analyse(recording: &PlateRecording, k: &Kinematics) -> PlateSeries {
     let m = k.mass_kg;
     let weight = m * G_M_S2;
     // m (a + g) over complete frames with an acceleration.
+    let (t_first, t_last) = (
+        k.times_s.first().copied().unwrap_or(0.0),
+        k.times_s.last().copied().unwrap_or(0.0),
+    );
     let pairs: Vec<([f64; 3], [f64; 3])> = (0..n)
+        .filter(|&f| k.times_s[f] - t_first >= EDGE_S && t_last - k.times_s[f] >= EDGE_S)
         .filter_map(|f| {
             let a = k.acceleration.get(f).copied().flatten()?;
             let force = grf_n[f]?;
