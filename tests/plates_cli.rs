@@ -69,6 +69,44 @@ fn plates_flag_and_fused_margins() {
             .abs()
             < 1.0
     );
+    // `[support] com = "fused"`: the XCoM uses the fused CoM where it exists (frames with a
+    // fused CoM differ from the segmental run, all others are the same).
+    let fused_frames = std::fs::read_to_string(dir.path().join("walk/frames.csv")).unwrap();
+    let segmental = dir.path().join("segmental.toml");
+    let toml = std::fs::read_to_string(&config)
+        .unwrap()
+        .replace("com = \"fused\"", "com = \"segmental\"");
+    std::fs::write(&segmental, toml).unwrap();
+    run(&[
+        "--config",
+        segmental.to_str().unwrap(),
+        "--plates",
+        plates.to_str().unwrap(),
+    ])
+    .success();
+    let segmental_frames = std::fs::read_to_string(dir.path().join("walk/frames.csv")).unwrap();
+    let column = |text: &str, name: &str| -> Vec<String> {
+        let mut lines = text.lines();
+        let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+        let i = header.iter().position(|h| *h == name).unwrap();
+        lines
+            .map(|l| l.split(',').nth(i).unwrap().to_string())
+            .collect()
+    };
+    let (xf, xs) = (
+        column(&fused_frames, "xcom_x_m"),
+        column(&segmental_frames, "xcom_x_m"),
+    );
+    let has_fused = column(&fused_frames, "com_fused_x_m");
+    let mut differing = 0;
+    for ((a, b), fused) in xf.iter().zip(&xs).zip(&has_fused) {
+        if fused.is_empty() {
+            assert_eq!(a, b);
+        } else if a != b {
+            differing += 1;
+        }
+    }
+    assert!(differing > 50, "{differing}");
     // A plate file whose cell is not a number: a one-line error naming file, line and column.
     std::fs::write(
         &plates,
