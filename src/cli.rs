@@ -205,6 +205,10 @@ struct TrialArgs {
     /// Add per-segment CoM columns (seg_<segment>_x_m ...) to frames.csv.
     #[arg(long)]
     segments: bool,
+    /// Force plates of the trial: CSV (time_s, then per plate <p>_fx_n, <p>_fy_n, <p>_fz_n and
+    /// CoP <p>_cop_x_mm.. or moments <p>_mx_nm..; corners from [[plate]] in the configuration).
+    #[arg(long, value_name = "FILE.csv")]
+    plates: Option<PathBuf>,
     #[command(flatten)]
     plots: PlotArgs,
 }
@@ -383,7 +387,9 @@ fn trial(a: &TrialArgs, ui: &Ui) -> Result<ExitCode> {
             a.trial.display()
         );
     }
-    let setup = Setup::new(config(&a.setup)?, subject(&a.subject)?)?;
+    let mut trial_config = config(&a.setup)?;
+    trial_config.plates_file = a.plates.clone();
+    let setup = Setup::new(trial_config, subject(&a.subject)?)?;
     let stem = a
         .trial
         .file_stem()

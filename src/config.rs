@@ -80,6 +80,16 @@ pub struct RawSupport {
     pub xcom_length: Option<RawLength>,
     pub midfoot_band_m: Option<f64>,
     pub gait_events: Option<String>,
+    /// `"segmental"` (default) or `"fused"` (the plate-fused CoM for XCoM and margins).
+    pub com: Option<String>,
+}
+
+/// `[[plate]]`: a force plate's corners in the lab (metres, in order around the plate).
+#[derive(Clone, Debug, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct RawPlate {
+    pub name: String,
+    pub corners_m: Vec<[f64; 3]>,
 }
 
 /// `[[load]]`: an external mass.
@@ -133,6 +143,8 @@ pub struct RawConfig {
     pub virtual_landmarks: BTreeMap<String, RawVirtual>,
     #[serde(default, skip_serializing_if = "RawTrialSection::is_empty")]
     pub trial: RawTrialSection,
+    #[serde(default)]
+    pub plate: Vec<RawPlate>,
 }
 
 /// `[trial]`: what the trial is.
@@ -274,6 +286,20 @@ pub struct SupportConfig {
     pub midfoot_band_m: Option<f64>,
     /// How heel strikes and toe-offs are found in walking trials.
     pub gait_events: GaitEventMethod,
+    /// Which CoM the XCoM and margins use.
+    pub com: ComSource,
+}
+
+/// The CoM the XCoM and margins use (`[support] com`).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ComSource {
+    /// The segmental CoM (`"segmental"`, the default).
+    #[default]
+    Segmental,
+    /// The plate-fused CoM where the ground reaction is complete, the segmental elsewhere
+    /// (`"fused"`).
+    Fused,
 }
 
 /// Gait-event method of walking trials (`[support] gait_events`).
@@ -325,6 +351,10 @@ pub struct Config {
     pub movement: crate::movement::MovementChoice,
     /// Compute the spread of the CoM between models (`[model] spread`, `--spread`).
     pub spread: bool,
+    /// Declared force plates (`[[plate]]`).
+    pub plates: Vec<crate::plates::PlateSetup>,
+    /// The trial's plate recording (`--plates`, the manifest's `plates` column).
+    pub plates_file: Option<std::path::PathBuf>,
 }
 
 /// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
@@ -560,6 +590,15 @@ impl Config {
                 min_flight_s: s.min_flight_s,
                 midfoot_band_m: s.midfoot_band_m,
                 gait_events,
+                com: match s.com.as_deref() {
+                    None | Some("segmental") => ComSource::Segmental,
+                    Some("fused") => ComSource::Fused,
+                    Some(other) => {
+                        return Err(invalid(format!(
+                            "[support] com = `{other}`; use \"segmental\" or \"fused\""
+                        )))
+                    }
+                },
             },
             xcom_length,
             loads,
@@ -567,6 +606,8 @@ impl Config {
             virtual_landmarks,
             movement,
             spread: raw.model.spread.unwrap_or(false),
+            plates: crate::plates::read::plate_setups(&raw.plate).map_err(invalid)?,
+            plates_file: None,
         })
     }
 
@@ -738,6 +779,7 @@ max_gap_s = 0.10      # longest interior gap bridged by the cubic spline
 xcom_length = "leg"       # pendulum length for the XCoM: "leg" or metres
 # midfoot_band_m = 0.05   # lifts: half-width of the mid-foot band
 gait_events = "zeni-bonci" # walking: "zeni-bonci" (Zeni 2008 refined by Bonci 2022) or "zeni"
+com = "segmental"         # CoM of the XCoM and margins: "segmental" or "fused" (with --plates)
 
 [trial]
 movement = "auto"         # "auto" (recognised from the data), "walk", "jump", "squat" or "stand"
@@ -751,6 +793,10 @@ movement = "auto"         # "auto" (recognised from the data), "walk", "jump", "
 # [[group]]                # a subsystem with its own CoM columns
 # name = "legs"
 # segments = ["l_thigh", "l_shank", "l_foot", "r_thigh", "r_shank", "r_foot"]
+
+# [[plate]]                # a force plate of --plates: its corners in the lab, metres, in order
+# name = "plate1"
+# corners_m = [[0.6, 0.2, 0.0], [0.0, 0.2, 0.0], [0.0, -0.2, 0.0], [0.6, -0.2, 0.0]]
 
 [virtual]
 # l_toe = { along = ["l_heel", "l_mt2"], fraction = 1.3 }

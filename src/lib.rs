@@ -40,6 +40,8 @@ pub mod config;
 pub mod movement;
 /// One trial through every stage.
 pub mod pipeline;
+/// Force plates: GRF, CoP, clean strikes, the m(a+g) cross-check, the fused CoM, sway, jumps.
+pub mod plates;
 /// frames.csv, steps.csv, summary.json and plots.
 pub mod report;
 /// Gap filling, zero-lag low-pass, residual analysis, derivatives.

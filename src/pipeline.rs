@@ -81,6 +81,8 @@ pub struct TrialResult {
     pub lift: Option<support::lift::LiftSeries>,
     /// The CoM's spread between models, when the configuration asks for it.
     pub spread: Option<com::spread::SpreadSeries>,
+    /// Ground reaction, CoP, clean strikes, cross-check and fused CoM, with a plate recording.
+    pub plates: Option<crate::plates::PlateSeries>,
     pub model: ModelInfo,
     pub warnings: Vec<Warning>,
     /// The movement and its figures (gait, jump, repetitions, sway).
@@ -114,6 +116,18 @@ pub fn run_trial(
     table: &SegmentTable,
     options: RunOptions,
 ) -> Result<TrialResult, PipelineError> {
+    run_trial_with_plates(trial, config, subject, table, options, None)
+}
+
+/// [`run_trial`] with a plate recording for the plate stage (module [`crate::plates`]).
+pub fn run_trial_with_plates(
+    trial: &Trial,
+    config: &Config,
+    subject: &Subject,
+    table: &SegmentTable,
+    options: RunOptions,
+    plates: Option<&crate::plates::PlateRecording>,
+) -> Result<TrialResult, PipelineError> {
     let models = Models::resolve(trial, config, subject, table)?;
     let (markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
     let (result, _markers) = run_filled(
@@ -127,6 +141,7 @@ pub fn run_trial(
         options,
         trial_threads(),
         true,
+        plates,
     )?;
     Ok(result)
 }
@@ -141,6 +156,7 @@ fn run_flat_trial(
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
+    plates: Option<&crate::plates::PlateRecording>,
 ) -> Result<(TrialResult, signal::Markers), PipelineError> {
     let crate::trial::FlatTrial { trial, tracks } = flat;
     let models = Models::resolve(&trial, config, subject, table)?;
@@ -154,7 +170,7 @@ fn run_flat_trial(
         threads,
     );
     run_filled(
-        &trial, models, markers, gaps, config, subject, table, options, threads, false,
+        &trial, models, markers, gaps, config, subject, table, options, threads, false, plates,
     )
 }
 
@@ -266,6 +282,7 @@ fn run_filled(
     options: RunOptions,
     threads: usize,
     low_pass: bool,
+    plates: Option<&crate::plates::PlateRecording>,
 ) -> Result<(TrialResult, signal::Markers), PipelineError> {
     let labels = &trial.markers.labels;
     let Models {
@@ -395,28 +412,61 @@ fn run_filled(
         s
     });
     let up = trial.up_axis;
-    let xcom: Vec<Option<[f64; 3]>> = system
-        .iter()
-        .zip(&velocity)
-        .map(|(c, v)| {
-            let (c, v, w) = (c.as_ref()?, v.as_ref()?, omega0?);
-            let xi = com::xcom_horizontal(up.horizontal(c), up.horizontal(v), w);
-            Some(up.point(xi, floor_m))
-        })
-        .collect();
-    let support = support::stage::analyse_on(
-        &foot,
-        &system,
-        &velocity,
-        &xcom,
-        floor_m,
-        up,
-        &trial.times_s,
-        trial.rate_hz,
-        &config.support,
-        threads,
-    );
+    let xcom_of = |com: &[Option<[f64; 3]>], velocity: &[Option<[f64; 3]>]| -> Series {
+        com.iter()
+            .zip(velocity)
+            .map(|(c, v)| {
+                let (c, v, w) = (c.as_ref()?, v.as_ref()?, omega0?);
+                let xi = com::xcom_horizontal(up.horizontal(c), up.horizontal(v), w);
+                Some(up.point(xi, floor_m))
+            })
+            .collect()
+    };
+    let support_of =
+        |com: &[Option<[f64; 3]>], velocity: &[Option<[f64; 3]>], xcom: &[Option<[f64; 3]>]| {
+            support::stage::analyse_on(
+                &foot,
+                com,
+                velocity,
+                xcom,
+                floor_m,
+                up,
+                &trial.times_s,
+                trial.rate_hz,
+                &config.support,
+                threads,
+            )
+        };
+    let xcom = xcom_of(&system, &velocity);
+    let support = support_of(&system, &velocity, &xcom);
     warnings.extend(support.warnings.iter().cloned());
+    let plates = plates.map(|rec| {
+        crate::plates::analyse(
+            rec,
+            &crate::plates::Kinematics {
+                times_s: &trial.times_s,
+                rate_hz: trial.rate_hz,
+                up,
+                mass_kg: com_model.system_mass_kg,
+                com: &system,
+                velocity: &velocity,
+                acceleration: &acceleration,
+                contact: &support.contact,
+                foot: &foot,
+            },
+        )
+    });
+    warnings.extend(plates.iter().flat_map(|p| p.warnings.iter().cloned()));
+    // `[support] com = "fused"`: the XCoM and margins from the fused CoM where it exists.
+    let (xcom, support) = match (&plates, config.support.com) {
+        (Some(p), crate::config::ComSource::Fused) => {
+            let (c, v) = crate::plates::fused_or_segmental(&system, &velocity, p);
+            let x = xcom_of(&c, &v);
+            let s = support_of(&c, &v, &x);
+            (x, s)
+        }
+        _ => (xcom, support),
+    };
     let lift = loads.first().map(|bar| {
         support::lift::analyse(
             &foot,
@@ -472,6 +522,7 @@ fn run_filled(
         support,
         lift,
         spread,
+        plates,
         model,
         warnings,
         movement: Default::default(),
@@ -509,6 +560,8 @@ pub enum Error {
         path: String,
         source: std::io::Error,
     },
+    #[error(transparent)]
+    Plates(#[from] crate::plates::PlateError),
 }
 
 /// Threads one trial may use: every core, except on a worker of a thread pool (a batch, which
@@ -598,6 +651,14 @@ pub fn process_file(
     });
     let trial = trial?;
     drop(bytes);
+    let plates = match &setup.config.plates_file {
+        Some(p) => Some(crate::plates::read_plates_file(
+            p,
+            &setup.config.plates,
+            setup.config.up_axis,
+        )?),
+        None => None,
+    };
     let (result, markers) = run_flat_trial(
         trial,
         &setup.config,
@@ -605,6 +666,7 @@ pub fn process_file(
         &setup.table,
         options.run,
         threads,
+        plates.as_ref(),
     )?;
     let summary =
         crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());

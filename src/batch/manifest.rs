@@ -89,6 +89,8 @@ pub struct Job {
     pub path: PathBuf,
     pub subject: Option<String>,
     pub condition: Option<String>,
+    /// The trial's force-plate CSV (`plates` column, relative to the manifest).
+    pub plates: Option<PathBuf>,
     /// `Err` holds the one-line reason this row cannot run.
     pub setup: Result<JobSetup, String>,
 }
@@ -290,7 +292,7 @@ impl Table {
 
 fn known_columns() -> Vec<&'static str> {
     let mut known: Vec<&str> = REQUIRED_COLUMNS.to_vec();
-    known.extend(["condition", "config"]);
+    known.extend(["condition", "config", "plates"]);
     known.extend(SUBJECT_FIELDS);
     known
 }
@@ -334,6 +336,7 @@ pub fn read_manifest(path: &Path, base: Config) -> Result<Plan, ManifestError> {
             trial,
             subject: r.get("subject").map(str::to_string),
             condition: r.get("condition").map(str::to_string),
+            plates: r.get("plates").map(|p| folder.join(p)),
             setup,
         });
     }
@@ -467,6 +470,10 @@ pub fn read_directory(
             path: dir.join(name),
             subject,
             condition,
+            plates: record
+                .as_ref()
+                .and_then(|r| r.get("plates"))
+                .map(|p| dir.join(p)),
             setup,
         });
     }
@@ -556,6 +563,7 @@ mod tests {
             path: PathBuf::from(trial),
             subject: None,
             condition: None,
+            plates: None,
             setup: Err(String::new()),
         }
     }

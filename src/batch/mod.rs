@@ -301,7 +301,9 @@ fn run_job(
         Ok(s) => s,
         Err(message) => return fail(message.clone()),
     };
-    let setup = match Setup::new((*js.config).clone(), js.subject.clone()) {
+    let mut config = (*js.config).clone();
+    config.plates_file = job.plates.clone();
+    let setup = match Setup::new(config, js.subject.clone()) {
         Ok(s) => s,
         Err(e) => return fail(e.to_string()),
     };

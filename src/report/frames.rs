@@ -59,6 +59,9 @@ pub fn frames_header(r: &TrialResult) -> Vec<String> {
         h.push("com_spread_m".to_string());
         xyz(&mut h, "com_spread");
     }
+    if r.plates.is_some() {
+        h.extend(crate::plates::FRAME_COLUMNS.iter().map(|c| c.to_string()));
+    }
     h
 }
 
@@ -207,6 +210,13 @@ fn push_row(r: &TrialResult, f: usize, buf: &mut Vec<u8>) {
         row.opt(at(&s.spread_m, f));
         row.opt3(get3(&s.axes_m, f));
     }
+    if let Some(p) = &r.plates {
+        row.opt3(get3(&p.grf_n, f));
+        row.opt3(get3(&p.cop_m, f));
+        row.flag(p.grf_complete.get(f).copied().unwrap_or(false));
+        row.opt3(get3(&p.com_fused, f));
+        row.opt3(get3(&p.velocity_fused, f));
+    }
     row.buf.push(b'\n');
 }
 
@@ -234,10 +244,14 @@ pub fn write_reps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
 
 /// Writes `steps.csv`: one row per heel strike (DESIGN.md 7).
 pub fn write_steps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
-    writeln!(
+    write!(
         w,
         "side,heel_strike_s,toe_off_s,step_length_m,step_width_m,mos_ap_heel_strike_m,mos_ml_heel_strike_m,min_mos_ml_single_stance_m,com_vertical_excursion_m"
     )?;
+    if r.plates.is_some() {
+        w.write_all(b",plate,clean_strike")?;
+    }
+    w.write_all(b"\n")?;
     for s in &r.support.steps {
         write!(w, "{},{:.6}", s.side, s.heel_strike_s)?;
         for v in [
@@ -250,6 +264,11 @@ pub fn write_steps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
             s.com_vertical_excursion_m,
         ] {
             opt(&mut w, v)?;
+        }
+        if let Some(p) = &r.plates {
+            let (plate, clean) =
+                crate::plates::step_plate(p, &r.times_s, r.rate_hz, s.side, s.heel_strike_s);
+            write!(w, ",{plate},{clean}")?;
         }
         w.write_all(b"\n")?;
     }

@@ -149,7 +149,8 @@ fn map_axis(v: f64, range: &Range<f64>, limit: (i32, i32)) -> i32 {
 }
 
 /// The pixel layout of the `series` figure: its shared time axis and the rows of its three
-/// panels (speed, margins, height), in figure pixels, first to last inclusive.
+/// panels (speed, margins, height; a fourth, the plate cross-check, with force plates), in
+/// figure pixels, first to last inclusive.
 #[derive(Clone, Debug, PartialEq)]
 pub struct SeriesView {
     /// Time range, seconds (left to right).
@@ -158,6 +159,8 @@ pub struct SeriesView {
     pub x_px: (i32, i32),
     /// Top and bottom pixel row of each panel's plotting area, top panel first.
     pub panels_px: [(i32, i32); 3],
+    /// The same for the plate cross-check panel below them, with force plates.
+    pub plates_panel_px: Option<(i32, i32)>,
 }
 
 /// The layout of the `series` figure of a result.

@@ -99,6 +99,9 @@ pub struct Summary {
     /// The CoM's spread between models (`--spread`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub spread: Option<crate::com::spread::SpreadFigures>,
+    /// Force plates: cross-check, implied mass, strikes, fused CoM, sway, jump.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub plates: Option<crate::plates::PlateFigures>,
     pub warnings: Vec<String>,
     pub warning_details: Vec<Warning>,
     pub provenance: Provenance,
@@ -250,6 +253,7 @@ impl Summary {
             lift,
             figures: r.movement.clone(),
             spread: r.spread.as_ref().map(|s| s.figures()),
+            plates: r.plates.as_ref().map(|p| p.figures.clone()),
             warnings: warnings.iter().map(|w| w.to_string()).collect(),
             warning_details: warnings,
             provenance: Provenance {

@@ -37,6 +37,7 @@ mod geom;
 mod jump;
 mod model;
 mod noise;
+pub mod plates;
 mod squat;
 mod stand;
 mod walk;
@@ -384,40 +385,11 @@ pub fn generate(scenario: Scenario, opts: &SynthOptions) -> SynthTrial {
     let n = (o.duration_s * o.rate_hz).round() as usize;
     let times: Vec<f64> = (0..n).map(|i| i as f64 / o.rate_hz).collect();
     let (first, last) = (0.0, times.last().copied().unwrap_or(0.0));
-    let mut truth = Truth::default();
     let mut markers = body_marker_ids();
-    let motion = match scenario {
-        Scenario::Walk => {
-            let x0 = -o.walk_speed_m_s * o.duration_s / 2.0;
-            let w = walk::Walk::new(&model, o.walk_speed_m_s, o.cadence_steps_per_min, x0);
-            truth.contacts = w.contacts(first, last);
-            truth.walk_speed_m_s = Some(w.speed_m_s());
-            Motion::Walk(w)
-        }
-        Scenario::Stand => {
-            truth.contacts = [vec![(first, last)], vec![(first, last)]];
-            Motion::Stand(stand::Stand::new(&model, o.seed))
-        }
-        Scenario::Squat => {
-            let s = squat::Squat::new(&model, o.duration_s);
-            truth.contacts = [vec![(first, last)], vec![(first, last)]];
-            truth.reps_s = s.reps().to_vec();
-            truth.rep_bottoms_s = s.reps().iter().map(|r| r.1).collect();
-            truth.bar_mass_kg = Some(o.bar_mass_kg);
-            markers.extend(squat::BAR_POINTS);
-            Motion::Squat(s)
-        }
-        Scenario::Jump => {
-            let j = jump::Jump::new(&model, &com);
-            let (take_off, landing) = j.flight_s();
-            truth.contacts = [
-                vec![(first, take_off), (landing, last)],
-                vec![(first, take_off), (landing, last)],
-            ];
-            truth.flight_s = Some((take_off, landing));
-            Motion::Jump(Box::new(j))
-        }
-    };
+    if scenario == Scenario::Squat {
+        markers.extend(squat::BAR_POINTS);
+    }
+    let (motion, mut truth) = plan(scenario, &o, &model, &com, first, last);
     let points = truth_point_ids();
     let sampled = sample(&motion, &model, &com, &times, &markers, &points);
     let mut positions = sampled.tracks;
@@ -435,6 +407,51 @@ pub fn generate(scenario: Scenario, opts: &SynthOptions) -> SynthTrial {
         positions,
         truth,
     }
+}
+
+/// The motion of a scenario (options already sanitized) and the truth it fixes in advance:
+/// contacts, speed, flight, repetitions.
+fn plan(
+    scenario: Scenario,
+    o: &SynthOptions,
+    model: &Model,
+    com: &ComModel,
+    first: f64,
+    last: f64,
+) -> (Motion, Truth) {
+    let mut truth = Truth::default();
+    let motion = match scenario {
+        Scenario::Walk => {
+            let x0 = -o.walk_speed_m_s * o.duration_s / 2.0;
+            let w = walk::Walk::new(model, o.walk_speed_m_s, o.cadence_steps_per_min, x0);
+            truth.contacts = w.contacts(first, last);
+            truth.walk_speed_m_s = Some(w.speed_m_s());
+            Motion::Walk(w)
+        }
+        Scenario::Stand => {
+            truth.contacts = [vec![(first, last)], vec![(first, last)]];
+            Motion::Stand(stand::Stand::new(model, o.seed))
+        }
+        Scenario::Squat => {
+            let s = squat::Squat::new(model, o.duration_s);
+            truth.contacts = [vec![(first, last)], vec![(first, last)]];
+            truth.reps_s = s.reps().to_vec();
+            truth.rep_bottoms_s = s.reps().iter().map(|r| r.1).collect();
+            truth.bar_mass_kg = Some(o.bar_mass_kg);
+            Motion::Squat(s)
+        }
+        Scenario::Jump => {
+            let j = jump::Jump::new(model, com);
+            let (take_off, landing) = j.flight_s();
+            truth.contacts = [
+                vec![(first, take_off), (landing, last)],
+                vec![(first, take_off), (landing, last)],
+            ];
+            truth.flight_s = Some((take_off, landing));
+            Motion::Jump(Box::new(j))
+        }
+    };
+    (motion, truth)
 }
 
 /// Adds noise and gaps (noise first, so the gap positions do not change the noise).

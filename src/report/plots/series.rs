@@ -1,7 +1,9 @@
 //! `series`: three panels over one time axis (seconds): CoM speed and its components; the
 //! margins (walking: the AP and ML MoS of Hof et al. 2005, J Biomech 38:1-8; otherwise the BoS
 //! margin and the omnidirectional MoS with the outside-BoS spans shaded); CoM height above the
-//! floor; gait events (heel strikes solid, toe-offs dashed) as vertical marks in every panel.
+//! floor; with force plates a fourth, the cross-check residual m (a + g) − GRF per axis in % of
+//! body weight over the complete frames; gait events (heel strikes solid, toe-offs dashed) as
+//! vertical marks in every panel.
 
 use super::style::{self, Chart, Context, Entry, Swatch};
 use super::{map_axis, Area, RenderError, SeriesView};
@@ -12,31 +14,40 @@ use std::ops::Range;
 
 /// Vertical margin of each panel, above and below its plotting area.
 const PANEL_MARGIN: u32 = 9;
-const PANELS: usize = 3;
+
+/// Number of panels: three, and the plate cross-check when the result has plates.
+fn panel_count(r: &TrialResult) -> usize {
+    if r.plates.is_some() {
+        4
+    } else {
+        3
+    }
+}
 
 /// Top pixel row of each panel area (below the title strip); every plotting area is equally
 /// tall, the last panel also holds the time axis.
-fn panel_rows() -> [u32; PANELS] {
+fn panel_rows(panels: usize) -> Vec<u32> {
     let (_, h) = style::FIGURE_SIZE_PX;
     let body = h - style::TITLE_H;
-    let plot_h = (body - PANELS as u32 * 2 * PANEL_MARGIN - style::X_LABEL_H) / PANELS as u32;
+    let plot_h = (body - panels as u32 * 2 * PANEL_MARGIN - style::X_LABEL_H) / panels as u32;
     let step = plot_h + 2 * PANEL_MARGIN;
-    [0, step, 2 * step]
+    (0..panels as u32).map(|k| k * step).collect()
 }
 
 /// The pixel layout of the `series` figure (see [`super::series_view`]).
 pub(super) fn view(r: &TrialResult) -> SeriesView {
     let (w, h) = style::FIGURE_SIZE_PX;
-    let tops = panel_rows();
+    let panels = panel_count(r);
+    let tops = panel_rows(panels);
     let x_px = (
         (style::MARGIN + style::Y_LABEL_W) as i32,
         (w - style::LEGEND_W - style::MARGIN) as i32 - 1,
     );
-    let mut panels_px = [(0, 0); PANELS];
+    let mut panels_px = vec![(0, 0); panels];
     for (k, rows) in panels_px.iter_mut().enumerate() {
         let area_top = style::TITLE_H + tops[k];
         let area_bottom = tops.get(k + 1).map_or(h, |t| style::TITLE_H + t);
-        let labels = if k + 1 == PANELS { style::X_LABEL_H } else { 0 };
+        let labels = if k + 1 == panels { style::X_LABEL_H } else { 0 };
         *rows = (
             (area_top + PANEL_MARGIN) as i32,
             (area_bottom - PANEL_MARGIN - labels) as i32 - 1,
@@ -45,7 +56,8 @@ pub(super) fn view(r: &TrialResult) -> SeriesView {
     SeriesView {
         t_s: time_range(r),
         x_px,
-        panels_px,
+        panels_px: [panels_px[0], panels_px[1], panels_px[2]],
+        plates_panel_px: panels_px.get(3).copied(),
     }
 }
 
@@ -156,8 +168,9 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         &format!("{}: CoM speed, margins and height over time", r.name),
         &ctx.subtitle,
     )?;
-    let tops = panel_rows();
-    let panels = body.split_by_breakpoints([w - style::LEGEND_W], [tops[1], tops[2]]);
+    let n_panels = panel_count(r);
+    let tops = panel_rows(n_panels);
+    let panels = body.split_by_breakpoints([w - style::LEGEND_W], &tops[1..]);
     let t = time_range(r);
     let layout = view(r);
     let columns = (w - style::LEGEND_W - 2 * style::MARGIN - style::Y_LABEL_W) as usize;
@@ -233,7 +246,35 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
     )];
 
     let band = spread_band(r);
-    let panels_spec = [
+    let residual_of = |axis: usize| {
+        series_of(r, |i| {
+            let p = r.plates.as_ref()?;
+            let g = p.grf_n.get(i).copied().flatten()?;
+            let a = r.acceleration.get(i).copied().flatten()?;
+            let m = r.model.system_mass_kg;
+            let weight = m * crate::synth::G_M_S2;
+            let gu = up.unit()[axis] * crate::synth::G_M_S2;
+            Some(100.0 * (m * (a[axis] + gu) - g[axis]) / weight)
+        })
+    };
+    let residual = vec![
+        Line::new(
+            residual_of(0),
+            Swatch::Line(style::HORIZONTAL, 2),
+            "m(a+g) - GRF, lab x",
+        ),
+        Line::new(
+            residual_of(1),
+            Swatch::Dashed(style::XCOM, 2),
+            "m(a+g) - GRF, lab y",
+        ),
+        Line::new(
+            residual_of(2),
+            Swatch::Line(style::VERTICAL, 2),
+            "m(a+g) - GRF, lab z",
+        ),
+    ];
+    let mut panels_spec = vec![
         Panel {
             lines: &speed,
             y_desc: "speed (m/s)",
@@ -256,6 +297,15 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             empty: "no CoM",
         },
     ];
+    if n_panels > 3 {
+        panels_spec.push(Panel {
+            lines: &residual,
+            y_desc: "residual (% BW)",
+            include: &[0.0],
+            min_span: 2.0,
+            empty: "no frame with a complete ground reaction",
+        });
+    }
     for (k, p) in panels_spec.iter().enumerate() {
         let Panel {
             lines,
@@ -268,7 +318,7 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
         else {
             continue;
         };
-        let last = k + 1 == PANELS;
+        let last = k + 1 == n_panels;
         let band_values = band
             .iter()
             .flatten()
@@ -288,14 +338,14 @@ pub(super) fn draw<DB: DrawingBackend>(root: &Area<DB>, ctx: &Context) -> Result
             .x_label_area_size(if last { style::X_LABEL_H } else { 0 })
             .y_label_area_size(style::Y_LABEL_W)
             .build_cartesian_2d(t.clone(), y.clone())?;
-        debug_assert_eq!(
-            chart.plotting_area().get_pixel_range().1.start,
-            layout.panels_px[k].0
-        );
-        debug_assert_eq!(
-            chart.plotting_area().get_pixel_range().1.end - 1,
-            layout.panels_px[k].1
-        );
+        let rows = layout
+            .panels_px
+            .get(k)
+            .copied()
+            .or(layout.plates_panel_px)
+            .unwrap_or_default();
+        debug_assert_eq!(chart.plotting_area().get_pixel_range().1.start, rows.0);
+        debug_assert_eq!(chart.plotting_area().get_pixel_range().1.end - 1, rows.1);
         style::draw_axes(&mut chart, last.then_some("time (s)"), y_desc)?;
         let mut legend: Vec<Entry> = Vec::new();
         let mut notes: Vec<Entry> = Vec::new();
