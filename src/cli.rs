@@ -176,6 +176,9 @@ struct PlotArgs {
     /// Plot image format.
     #[arg(long, value_enum, default_value = "png")]
     plot_format: PlotFormatArg,
+    /// Do not write report.html (the self-contained page of the trial or batch).
+    #[arg(long)]
+    no_report: bool,
 }
 
 impl PlotArgs {
@@ -400,6 +403,7 @@ fn trial(a: &TrialArgs, ui: &Ui) -> Result<ExitCode> {
             segments: a.segments,
         },
         plots: a.plots.formats(),
+        no_report: a.plots.no_report,
     };
     let summary = pipeline::process_file(&a.trial, &setup, &dir, &options)?;
     ui.warnings(&stem, &summary.warnings);
@@ -561,7 +565,9 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
         );
     };
     let c = col("config");
+    let cond = col("condition");
     let sub = col("subject");
+    let mut pages = Vec::new();
     let leg = col("leg_length_m");
     for record in reader.records() {
         let r = record?;
@@ -575,6 +581,7 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
         let mut subject =
             Subject::new(r[m].parse()?, r[h].parse()?, sex).validate("bundled manifest")?;
         subject.name = sub.map(|i| r[i].to_string());
+        let condition = cond.map(|i| r[i].to_string());
         if let Some(l) = leg.filter(|&l| !r[l].is_empty()) {
             subject.leg_length_m = Some(r[l].parse()?);
         }
@@ -586,6 +593,7 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
         let options = OutputOptions {
             run: RunOptions::default(),
             plots: a.plots.formats(),
+            no_report: a.plots.no_report,
         };
         let summary = pipeline::process_file(&trial_path, &setup, &dir, &options)?;
         ui.warnings(&stem, &summary.warnings);
@@ -597,6 +605,17 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
         ) {
             println!("{line}");
         }
+        pages.push(demo_row(
+            pages.len() + 1,
+            &stem,
+            &summary,
+            condition.as_deref(),
+        )?);
+    }
+    if !a.plots.no_report {
+        let page = a.out.join("report.html");
+        gravline::batch::html::write_batch_report(&a.out, "", &pages)
+            .with_context(|| format!("cannot write {}", page.display()))?;
     }
     ui.info(&format!(
         "outputs in {}/<trial>/ (frames.csv, summary.json, steps.csv, plots)",
@@ -623,6 +642,27 @@ fn demo_steps(path: &Path) -> Vec<(usize, f64, Option<f64>)> {
             Some((side, r.get(1)?.parse().ok()?, r.get(2)?.parse().ok()))
         })
         .collect()
+}
+
+/// The demo trial's row of the summary table, for the demo's overview page.
+fn demo_row(
+    row: usize,
+    id: &str,
+    summary: &gravline::report::Summary,
+    condition: Option<&str>,
+) -> Result<gravline::batch::table::Row> {
+    use gravline::batch::table::{Row, RowKey, StoredSummary};
+    let stored = StoredSummary::from_json(&serde_json::to_string(summary)?)?;
+    Ok(Row::ok(
+        &RowKey {
+            row,
+            id,
+            trial: id,
+            subject: summary.subject.name.as_deref(),
+            condition,
+        },
+        &stored,
+    ))
 }
 
 #[derive(Args, Debug)]
@@ -715,6 +755,7 @@ fn batch(a: &BatchArgs, ui: &Ui) -> Result<ExitCode> {
         output: OutputOptions {
             run: RunOptions::default(),
             plots: a.plots.formats(),
+            no_report: a.plots.no_report,
         },
     };
     let outcome = batch::run(&plan, &options, &progress)?;

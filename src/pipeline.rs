@@ -614,6 +614,8 @@ pub struct OutputOptions {
     pub run: RunOptions,
     /// Plot formats to write; empty = no plots.
     pub plots: Vec<crate::report::plots::PlotFormat>,
+    /// Skip `report.html` (`--no-report`).
+    pub no_report: bool,
 }
 
 /// Reads a trial file, runs it, and writes its outputs into `dir` (`frames.csv`,
@@ -675,7 +677,7 @@ pub fn process_file(
     let ((), written) = signal::both(
         threads,
         || drop(markers),
-        || crate::report::write_outputs(dir, &result, &summary, &options.plots),
+        || crate::report::write_outputs(dir, &result, &summary, &options.plots, !options.no_report),
     );
     written?;
     Ok(summary)

@@ -88,6 +88,7 @@
 //! With `--resume`, a task that was pre-empted and restarted continues where it stopped. The
 //! Parquet summary reads straight into dataframe and SQL engines.
 
+pub mod html;
 pub mod manifest;
 pub mod progress;
 pub mod table;
@@ -266,7 +267,10 @@ pub fn run(
         count(TrialOutcome::Failed),
     );
     let rows: Vec<Row> = results.into_iter().map(|r| r.0).collect();
-    let files = write_summary(&options.out_dir, options.shard, &rows)?;
+    let mut files = write_summary(&options.out_dir, options.shard, &rows)?;
+    if options.shard.is_none() && !options.output.no_report {
+        files.push(write_report(&options.out_dir, &rows)?);
+    }
     Ok(Outcome {
         rows,
         ran,
@@ -406,6 +410,16 @@ pub fn write_summary(
     Ok(paths)
 }
 
+/// Writes the batch's `report.html` ([`html`]); returns its path.
+fn write_report(out_dir: &Path, rows: &[Row]) -> Result<PathBuf, TableError> {
+    let page = out_dir.join("report.html");
+    html::write_batch_report(out_dir, "trials/", rows).map_err(|source| TableError::Write {
+        path: page.display().to_string(),
+        source,
+    })?;
+    Ok(page)
+}
+
 /// Joins shard summary tables (Parquet or CSV) into the summary files of an unsharded run:
 /// rows sorted by `row`; a row given twice, or missing between the first and the last, is an
 /// error.
@@ -452,7 +466,8 @@ pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> 
     }
     let rows: Vec<Row> = rows.into_iter().map(|r| r.2).collect();
     let failed = rows.iter().filter(|r| !r.is_ok()).count();
-    let files = write_summary(out_dir, None, &rows)?;
+    let mut files = write_summary(out_dir, None, &rows)?;
+    files.push(write_report(out_dir, &rows)?);
     Ok(Outcome {
         ran: 0,
         skipped: 0,

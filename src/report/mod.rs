@@ -1,12 +1,13 @@
 //! Stage 6, reporting (DESIGN.md 8, 9): a [`TrialResult`](crate::pipeline::TrialResult) becomes
 //! `frames.csv` (one row per frame, SI units in every column name), `summary.json` (figures,
-//! warnings, provenance, cautions), `steps.csv`, and the plots.
+//! warnings, provenance, cautions), `steps.csv`, the plots, and `report.html` ([`html`]).
 //!
 //! Writers take `impl Write`; [`write_atomic`] owns the files: it writes to a temporary name
 //! in the same folder and renames, so an interrupted run never leaves a truncated file.
 
 pub mod fixed;
 pub mod frames;
+pub mod html;
 pub mod plots;
 pub mod summary;
 
@@ -64,6 +65,7 @@ pub fn write_outputs(
     result: &crate::pipeline::TrialResult,
     summary: &Summary,
     plots: &[plots::PlotFormat],
+    report: bool,
 ) -> Result<(), crate::pipeline::Error> {
     let err = |path: &Path| {
         let path = path.display().to_string();
@@ -87,6 +89,13 @@ pub fn write_outputs(
         path: path.display().to_string(),
         source,
     })?;
+    let page = dir.join("report.html");
+    if report {
+        html::write_trial_report(dir, result, summary).map_err(err(&page))?;
+    } else if page.exists() {
+        // A page of an earlier run would describe other numbers than this run's.
+        std::fs::remove_file(&page).map_err(err(&page))?;
+    }
     let json = dir.join("summary.json");
     // Numbers with the precision they carry (`fixed::SUMMARY_DIGITS` significant digits).
     let mut value = serde_json::to_value(summary).map_err(|e| crate::pipeline::Error::Write {

@@ -219,6 +219,22 @@ pub fn write_plots(
     Ok(())
 }
 
+/// Draws one figure of a result as SVG text (the inline figures of `report.html`).
+pub fn render_svg(
+    result: &TrialResult,
+    summary: &Summary,
+    figure: Figure,
+) -> std::io::Result<String> {
+    register_font()?;
+    let ctx = style::Context::new(result, summary);
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, figure_size(figure, &ctx)).into_drawing_area();
+        draw(figure, &root, &ctx)?;
+    }
+    Ok(svg)
+}
+
 /// Registers the embedded DejaVu Sans as plotters' `sans-serif`, once per process.
 fn register_font() -> std::io::Result<()> {
     static REGISTERED: OnceLock<bool> = OnceLock::new();
