@@ -281,6 +281,10 @@ pub enum XcomLength {
 pub struct Config {
     pub units: LengthUnit,
     pub up_axis: UpAxis,
+    /// Whether `[input] units` and `[input] up_axis` were written in the configuration (`false`:
+    /// the defaults, mm and +z, are assumed and the declaration check says what it detects).
+    #[serde(skip)]
+    pub declared: Declared,
     pub rate_hz: Option<f64>,
     /// Landmark name -> label in the file; landmarks not listed map to themselves.
     pub landmarks: BTreeMap<String, String>,
@@ -298,6 +302,13 @@ pub struct Config {
     pub loads: Vec<Load>,
     pub groups: Vec<Group>,
     pub virtual_landmarks: BTreeMap<String, VirtualDef>,
+}
+
+/// Which reading declarations the configuration wrote (the others are defaults).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Declared {
+    pub units: bool,
+    pub up_axis: bool,
 }
 
 /// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
@@ -504,6 +515,10 @@ impl Config {
         Ok(Config {
             units,
             up_axis,
+            declared: Declared {
+                units: raw.input.units.is_some(),
+                up_axis: raw.input.up_axis.is_some(),
+            },
             rate_hz: raw.input.rate_hz,
             landmarks: raw.landmarks.clone(),
             table: raw
@@ -568,6 +583,9 @@ pub struct Subject {
     pub leg_length_m: Option<f64>,
     pub asis_width_m: Option<f64>,
     pub marker_radius_m: Option<f64>,
+    /// Foot width (breadth across the metatarsal heads), for the sole outline of the BoS.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub foot_width_m: Option<f64>,
     pub knee_width_m: Option<f64>,
     pub ankle_width_m: Option<f64>,
     pub elbow_width_m: Option<f64>,
@@ -585,6 +603,7 @@ impl Subject {
             leg_length_m: None,
             asis_width_m: None,
             marker_radius_m: None,
+            foot_width_m: None,
             knee_width_m: None,
             ankle_width_m: None,
             elbow_width_m: None,
@@ -625,6 +644,7 @@ impl Subject {
             (self.leg_length_m, "leg_length_m"),
             (self.asis_width_m, "asis_width_m"),
             (self.marker_radius_m, "marker_radius_m"),
+            (self.foot_width_m, "foot_width_m"),
             (self.knee_width_m, "knee_width_m"),
             (self.ankle_width_m, "ankle_width_m"),
             (self.elbow_width_m, "elbow_width_m"),

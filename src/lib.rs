@@ -34,6 +34,8 @@ pub mod batch;
 pub mod body;
 /// Segment CoMs, the weighted whole-body CoM, loads, groups, XCoM.
 pub mod com;
+/// Declarations (units, up axis) checked against the data; implausible figures.
+pub mod checks;
 /// Configuration and subject, validated once.
 pub mod config;
 /// One trial through every stage.

@@ -24,6 +24,8 @@ pub enum PipelineError {
     Com(#[from] ComError),
     #[error("{file}: {source}")]
     Signal { file: String, source: SignalError },
+    #[error(transparent)]
+    Declaration(#[from] crate::checks::DeclarationError),
 }
 
 /// Options of one run that are not part of the configuration.
@@ -111,8 +113,12 @@ pub fn run_trial(
     options: RunOptions,
 ) -> Result<TrialResult, PipelineError> {
     let models = Models::resolve(trial, config, subject, table)?;
+    let tracks = &trial.markers.tracks;
+    let found = declarations(&models, trial, config, subject, |i, f| {
+        tracks.get(i)?.get(f).copied().flatten()
+    })?;
     let (markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
-    let (result, _markers) = run_filled(
+    let (mut result, _markers) = run_filled(
         trial,
         models,
         markers,
@@ -123,7 +129,30 @@ pub fn run_trial(
         trial_threads(),
         true,
     )?;
+    result.warnings.splice(0..0, found);
     Ok(result)
+}
+
+/// The declaration check (units, up axis) before any computation: an error naming the fix, or
+/// what was detected where nothing was declared.
+fn declarations(
+    models: &Models,
+    trial: &Trial,
+    config: &Config,
+    subject: &Subject,
+    marker: impl Fn(usize, usize) -> Option<[f64; 3]>,
+) -> Result<Vec<Warning>, PipelineError> {
+    let detected = crate::checks::detect(
+        &models.body,
+        trial.n_frames(),
+        marker,
+        config.up_axis,
+        subject.height_m,
+    );
+    Ok(match detected {
+        Some(d) => crate::checks::check(&d, config, subject.height_m, &trial.file)?,
+        None => Vec::new(),
+    })
 }
 
 /// [`run_trial`] on a trial read in the flat layout: each raw track is filled in place and
@@ -139,6 +168,10 @@ fn run_flat_trial(
 ) -> Result<(TrialResult, signal::Markers), PipelineError> {
     let crate::trial::FlatTrial { trial, tracks } = flat;
     let models = Models::resolve(&trial, config, subject, table)?;
+    let found = declarations(&models, &trial, config, subject, |i, f| {
+        let p = *tracks.get(i)?.get(f)?;
+        (!p.iter().any(|v| v.is_nan())).then_some(p)
+    })?;
     let filter = low_pass_design(&trial, config)?;
     let (markers, gaps) = signal::gapfill::fill_flat(
         trial.markers.labels.clone(),
@@ -148,9 +181,11 @@ fn run_flat_trial(
         filter.as_ref().map(|(c, pad)| (c, *pad)),
         threads,
     );
-    run_filled(
+    let (mut result, markers) = run_filled(
         &trial, models, markers, gaps, config, table, options, threads, false,
-    )
+    )?;
+    result.warnings.splice(0..0, found);
+    Ok((result, markers))
 }
 
 /// The low-pass section and its end pad, when the configuration asks for one.

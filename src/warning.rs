@@ -22,6 +22,8 @@ pub enum Warning {
     MassFractionSum { table: String, sum: f64 },
     /// A figure outside the range that is usual for people (a hint to check the input).
     Plausibility { message: String },
+    /// A reading declaration left to its default, and what the data showed.
+    Detected { what: String },
 }
 
 impl fmt::Display for Warning {
@@ -40,6 +42,7 @@ impl fmt::Display for Warning {
                 "table `{table}`: mass fractions sum to {sum:.4}, not 1; CoM divides by the actual sum"
             ),
             Warning::Plausibility { message } => write!(f, "plausibility: {message}"),
+            Warning::Detected { what } => write!(f, "detected: {what}"),
         }
     }
 }

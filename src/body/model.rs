@@ -294,6 +294,20 @@ impl BodyModel {
             .or_else(|| self.point_names.iter().position(|n| n == name))
     }
 
+    /// The trial marker index of a point that is a marker of the trial (not virtual, not
+    /// derived): the points the floor, the contact height test and the declaration check trust.
+    pub fn marker_index(&self, name: &str) -> Option<usize> {
+        match self.defs.get(self.point(name)?) {
+            Some(Def::Marker(i)) => Some(*i),
+            _ => None,
+        }
+    }
+
+    /// Whether a point of the model is a marker of the trial (see [`BodyModel::marker_index`]).
+    pub fn is_marker(&self, id: PointId) -> bool {
+        matches!(self.defs.get(id), Some(Def::Marker(_)))
+    }
+
     /// Whether the hip regressions need a measured leg length (none was given).
     pub fn needs_leg_length(&self) -> bool {
         self.leg_length_m.is_none()
