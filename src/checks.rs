@@ -289,6 +289,46 @@ pub fn implausible(
     out
 }
 
+/// Median length (m) of each thigh and shank of the model over a sample of frames, for
+/// [`implausible`]. `frame(f)` gives every marker of frame `f` (metres).
+pub fn segment_lengths_m(
+    body: &BodyModel,
+    n_frames: usize,
+    frame: impl Fn(usize) -> Vec<Option<[f64; 3]>>,
+) -> Vec<(String, f64)> {
+    let wanted: Vec<usize> = body
+        .segments
+        .iter()
+        .enumerate()
+        .filter(|(_, s)| SEGMENT_SHARES.iter().any(|(k, _)| s.name.ends_with(k)))
+        .map(|(i, _)| i)
+        .collect();
+    if wanted.is_empty() || n_frames == 0 {
+        return Vec::new();
+    }
+    let mut lengths: Vec<Vec<f64>> = vec![Vec::new(); wanted.len()];
+    let mut points = Vec::new();
+    for f in (0..n_frames).step_by((n_frames / SAMPLE_FRAMES).max(1)) {
+        body.evaluate(&frame(f), &mut points);
+        for (k, &i) in wanted.iter().enumerate() {
+            let s = &body.segments[i];
+            let at = |id: usize| points.get(id).copied().flatten();
+            if let (Some(a), Some(b)) = (at(s.origin.id), at(s.other.id)) {
+                let d = (a - b).norm();
+                if d.is_finite() {
+                    lengths[k].push(d);
+                }
+            }
+        }
+    }
+    wanted
+        .iter()
+        .zip(lengths)
+        .filter(|(_, l)| !l.is_empty())
+        .map(|(&i, mut l)| (body.segments[i].name.clone(), median(&mut l)))
+        .collect()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -225,7 +225,18 @@ impl Ui {
     }
 
     fn warnings(&self, trial: &str, warnings: &[String]) {
-        if self.quiet || warnings.is_empty() {
+        if self.quiet {
+            // Implausible figures survive -q, on one line.
+            let implausible: Vec<&str> = warnings
+                .iter()
+                .filter_map(|w| w.strip_prefix("plausibility: "))
+                .collect();
+            if !implausible.is_empty() {
+                eprintln!("{trial}: suspect: {}", implausible.join("; "));
+            }
+            return;
+        }
+        if warnings.is_empty() {
             return;
         }
         let shown = if self.verbose {

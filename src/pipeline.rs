@@ -83,6 +83,10 @@ pub struct TrialResult {
     pub lift: Option<support::lift::LiftSeries>,
     pub model: ModelInfo,
     pub warnings: Vec<Warning>,
+    /// Median thigh and shank lengths (m), for the plausibility check.
+    pub segment_lengths_m: Vec<(String, f64)>,
+    /// The foot points per frame, for the BoS at any frame ([`support::stage::bos_at`]).
+    pub feet: support::FootFrames,
 }
 
 impl TrialResult {
@@ -380,6 +384,9 @@ fn run_filled(
             );
         }
     });
+    let segment_lengths_m = crate::checks::segment_lengths_m(&models.body, n, |f| {
+        markers.tracks.iter().map(|t| t.at(f)).collect()
+    });
     let Models {
         body,
         com: com_model,
@@ -497,6 +504,8 @@ fn run_filled(
         lift,
         model,
         warnings,
+        segment_lengths_m,
+        feet: foot,
     };
     Ok((result, markers))
 }

@@ -253,6 +253,13 @@ fn named_cells(
         ("condition", Cell::text(key.condition)),
         ("status", Cell::text(Some(status))),
         ("error", Cell::text(error)),
+        (
+            "suspect",
+            i(&|s| {
+                let implausible = s.warnings.iter().any(|w| w.starts_with("plausibility: "));
+                Some(i64::from(implausible))
+            }),
+        ),
         ("frames", i(&|s| s.frames)),
         ("duration_s", f(&|s| s.duration_s)),
         ("rate_hz", f(&|s| s.rate_hz)),
@@ -412,6 +419,12 @@ impl Row {
 
     pub fn is_ok(&self) -> bool {
         self.get("status").and_then(Cell::as_str) == Some(STATUS_OK)
+    }
+
+    /// Whether the trial showed a figure no person produces (`suspect` = 1): left out of the
+    /// group statistics.
+    pub fn is_suspect(&self) -> bool {
+        self.get("suspect").and_then(Cell::as_i64) == Some(1)
     }
 }
 
@@ -637,7 +650,7 @@ pub struct GroupStat {
     pub sd: Option<f64>,
 }
 
-/// Mean and sample SD of [`GROUP_FIGURES`] over the ok rows of each subject, then of each
+/// Mean and sample SD of [`GROUP_FIGURES`] over the ok rows (not suspect) of each subject, then of each
 /// condition; groups in order of first appearance in the table, rows without a subject (or
 /// condition) left out of that grouping.
 pub fn groups(rows: &[Row]) -> Vec<GroupStat> {
@@ -645,7 +658,7 @@ pub fn groups(rows: &[Row]) -> Vec<GroupStat> {
     for by in ["subject", "condition"] {
         let mut order: Vec<String> = Vec::new();
         let mut members: HashMap<String, Vec<&Row>> = HashMap::new();
-        for row in rows.iter().filter(|r| r.is_ok()) {
+        for row in rows.iter().filter(|r| r.is_ok() && !r.is_suspect()) {
             let Some(g) = row.get(by).and_then(Cell::as_str) else {
                 continue;
             };
