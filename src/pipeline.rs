@@ -408,7 +408,7 @@ fn run_filled(
     // The floor found on another thread, the derivatives on this one.
     let (floor, (velocity, acceleration)) = signal::both(
         threads,
-        || support::floor_m(&foot, trial.up_axis, &config.support),
+        || support::floor_m(&foot, trial.up_axis, &config.support, trial.rate_hz),
         || signal::derivative::of_series(&system, dt),
     );
 
@@ -423,8 +423,9 @@ fn run_filled(
         });
     }
     let omega0 = xcom_length_m.map(com::omega0);
-    let (floor_m, floor_warning) = floor;
+    let (floor, floor_warning) = floor;
     warnings.extend(floor_warning);
+    let floor_m = floor.level_m;
     let up = trial.up_axis;
     let xcom: Vec<Option<[f64; 3]>> = system
         .iter()
@@ -440,7 +441,7 @@ fn run_filled(
         &system,
         &velocity,
         &xcom,
-        floor_m,
+        &floor,
         up,
         &trial.times_s,
         trial.rate_hz,

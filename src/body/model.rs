@@ -136,6 +136,9 @@ pub struct BodyModel {
     pub body_mass_kg: f64,
     /// Leg length used by the hip regressions and (by default) the XCoM, metres.
     pub leg_length_m: Option<f64>,
+    /// The subject's marker radius and foot width, metres, for the floor and the sole outline.
+    pub marker_radius_m: Option<f64>,
+    pub foot_width_m: Option<f64>,
     /// Optional points found for other stages (foot markers, load landmarks).
     optional: HashMap<String, PointId>,
     /// Marker indices (into the trial's labels) the model reads.
@@ -280,6 +283,8 @@ impl BodyModel {
             segments,
             body_mass_kg: subject.mass_kg,
             leg_length_m: subject.leg_length_m,
+            marker_radius_m: subject.marker_radius_m,
+            foot_width_m: subject.foot_width_m,
             optional: found,
             markers_used,
             warnings,
@@ -975,6 +980,8 @@ mod tests {
             segments: Vec::new(),
             body_mass_kg: 70.0,
             leg_length_m,
+            marker_radius_m: None,
+            foot_width_m: None,
             optional: HashMap::new(),
             markers_used: Vec::new(),
             warnings: Vec::new(),

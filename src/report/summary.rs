@@ -44,7 +44,10 @@ pub struct ComFigures {
 /// BoS figures of a trial.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct SupportFigures {
+    /// Floor surface height under the mean CoM position, metres.
     pub floor_m: f64,
+    /// The floor model: level, slope, tilt (deg), plane residual (mm), rise under the feet (mm).
+    pub floor: crate::support::floor::FloorModel,
     pub progression: Option<[f64; 2]>,
     pub min_bos_margin_m: Option<f64>,
     pub mean_bos_margin_m: Option<f64>,
@@ -176,6 +179,7 @@ impl Summary {
         let mos = || s.mos_m.iter().flatten().copied();
         let support = SupportFigures {
             floor_m: s.floor_m,
+            floor: s.floor.clone(),
             progression: s.progression,
             min_bos_margin_m: min(margins()),
             mean_bos_margin_m: mean(margins()),

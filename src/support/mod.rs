@@ -16,6 +16,9 @@
 
 pub mod contact;
 pub mod events;
+pub mod floor;
+pub mod foot;
+pub mod sole;
 pub mod hull;
 pub mod margin;
 

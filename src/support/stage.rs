@@ -27,8 +27,11 @@
 //!
 //! Units: metres, seconds, m/s.
 
+use super::floor::FloorModel;
+use super::foot::{FootPoint, Region};
+use super::sole::{sole, FootMarks};
 use super::{
-    convex_hull, detect_contact, directional_margin, floor_level, refine_events, signed_distance,
+    convex_hull, detect_contact, directional_margin, refine_events, signed_distance, transitions,
     zeni_events, ContactThresholds, GaitEvents, RefineOptions,
 };
 use crate::body::model::PointId;
@@ -57,7 +60,13 @@ const MT2: usize = 3;
 #[derive(Clone, Debug, Default)]
 pub struct FootFrames {
     ids: [[Option<PointId>; 6]; 2],
+    /// Whether each found foot point is a marker of the trial (not virtual, not derived).
+    real: [[bool; 6]; 2],
     sacrum_id: Option<PointId>,
+    /// The subject's marker radius (default [`super::floor::DEFAULT_MARKER_RADIUS_M`]) and foot
+    /// width, metres.
+    pub marker_radius_m: f64,
+    pub foot_width_m: Option<f64>,
     /// `points[side][k][frame]`, side 0 = left, k as [`FOOT_STEMS`].
     pub points: [[Vec<Option<[f64; 3]>>; 6]; 2],
     pub sacrum: Vec<Option<[f64; 3]>>,
@@ -68,11 +77,16 @@ impl FootFrames {
     pub fn new(body: &BodyModel, n_frames: usize) -> FootFrames {
         let mut f = FootFrames {
             sacrum_id: body.point("mid_psis"),
+            marker_radius_m: body
+                .marker_radius_m
+                .unwrap_or(super::floor::DEFAULT_MARKER_RADIUS_M),
+            foot_width_m: body.foot_width_m,
             ..Default::default()
         };
         for (s, prefix) in ["l_", "r_"].iter().enumerate() {
             for (k, stem) in FOOT_STEMS.iter().enumerate() {
                 f.ids[s][k] = body.point(&format!("{prefix}{stem}"));
+                f.real[s][k] = f.ids[s][k].is_some_and(|id| body.is_marker(id));
                 if f.ids[s][k].is_some() {
                     f.points[s][k].reserve(n_frames);
                 }
@@ -138,6 +152,29 @@ impl FootFrames {
         out
     }
 
+    /// Whether foot point `k` ([`FootPoint::index`]) of `side` is a marker of the trial: only
+    /// these enter the floor estimate and the contact height test.
+    pub fn is_marker(&self, side: usize, k: usize) -> bool {
+        self.real[side][k] && !self.points[side][k].is_empty()
+    }
+
+    /// How many foot points of `side` are markers of the trial.
+    pub fn n_markers(&self, side: usize) -> usize {
+        (0..6).filter(|&k| self.is_marker(side, k)).count()
+    }
+
+    /// The foot's points in frame `f`, on the floor plane, for its sole.
+    pub fn marks(&self, side: usize, f: usize, up: UpAxis) -> FootMarks {
+        let at = |p: FootPoint| self.at(side, p.index(), f).map(|p| up.horizontal(&p));
+        FootMarks {
+            heel: at(FootPoint::Heel),
+            toe: at(FootPoint::Toe),
+            mt1: at(FootPoint::Mt1),
+            mt2: at(FootPoint::Mt2),
+            mt5: at(FootPoint::Mt5),
+        }
+    }
+
     /// Whether any foot point was found.
     pub fn has_feet(&self) -> bool {
         self.ids.iter().flatten().any(Option::is_some)
@@ -183,10 +220,14 @@ pub struct Step {
 /// BoS and margins of one trial.
 #[derive(Clone, Debug, Default)]
 pub struct SupportSeries {
-    /// Floor level along the up axis, metres.
+    /// Floor surface height along the up axis, metres, under the mean horizontal CoM position.
     pub floor_m: f64,
-    /// `contact[side][frame]`, side 0 = left.
+    /// The floor (plane, cells, stance heights of the markers).
+    pub floor: FloorModel,
+    /// `contact[side][frame]`, side 0 = left: either region of the foot in contact.
     pub contact: [Vec<bool>; 2],
+    /// `regions[side][region][frame]`, region as [`Region::index`].
+    pub regions: [[Vec<bool>; 2]; 2],
     pub bos_area_m2: Vec<Option<f64>>,
     pub bos_margin_m: Vec<Option<f64>>,
     pub mos_m: Vec<Option<f64>>,
@@ -203,22 +244,27 @@ pub struct SupportSeries {
     pub warnings: Vec<Warning>,
 }
 
-/// Floor level: configured, or the 2nd percentile of foot-point heights (0 without feet).
-pub fn floor_m(foot: &FootFrames, up: UpAxis, config: &SupportConfig) -> (f64, Option<Warning>) {
-    if let Some(f) = config.floor_m {
-        return (f, None);
-    }
-    let heights = foot
-        .points
-        .iter()
-        .flatten()
-        .flatten()
-        .flatten()
-        .map(|p| up.height(p));
-    match floor_level(heights, FLOOR_PERCENTILE) {
-        Some(f) => (f, None),
+/// The floor ([`super::floor::estimate`]): `[support] floor_m` forces a level one; a warning
+/// when there are no foot markers, or when the floor is not level within
+/// [`super::floor::LEVEL_WITHIN_MM`].
+pub fn floor_m(
+    foot: &FootFrames,
+    up: UpAxis,
+    config: &SupportConfig,
+    rate_hz: f64,
+) -> (FloorModel, Option<Warning>) {
+    match super::floor::estimate(foot, up, rate_hz, foot.marker_radius_m, config.floor_m) {
+        Some(model) => {
+            let warning = (!model.forced && !model.is_level()).then(|| Warning::Approximation {
+                what: format!(
+                    "the floor is not level: it rises and falls {:.0} mm under the feet (tilt {:.2} deg, plane residual {:.1} mm); heights are taken from the local floor (set [support] floor_m to force a level floor)",
+                    model.rise_mm, model.tilt_deg, model.residual_mm
+                ),
+            });
+            (model, warning)
+        }
         None => (
-            0.0,
+            FloorModel::level(config.floor_m.unwrap_or(0.0)),
             Some(Warning::Approximation {
                 what: "no foot markers: floor taken at the lab origin, no base of support"
                     .to_string(),
@@ -245,7 +291,7 @@ pub fn analyse(
     com: &[Option<[f64; 3]>],
     velocity: &[Option<[f64; 3]>],
     xcom: &[Option<[f64; 3]>],
-    floor: f64,
+    floor: &FloorModel,
     up: UpAxis,
     times_s: &[f64],
     rate_hz: f64,
@@ -267,7 +313,7 @@ pub fn analyse_on(
     com: &[Option<[f64; 3]>],
     velocity: &[Option<[f64; 3]>],
     xcom: &[Option<[f64; 3]>],
-    floor: f64,
+    floor: &FloorModel,
     up: UpAxis,
     times_s: &[f64],
     rate_hz: f64,
@@ -275,26 +321,51 @@ pub fn analyse_on(
     threads: usize,
 ) -> SupportSeries {
     let n = com.len();
+    let mean_com = mean_horizontal(com, up);
     let mut out = SupportSeries {
-        floor_m: floor,
+        floor_m: mean_com.map_or(floor.level_m, |c| floor.at(c)),
+        floor: floor.clone(),
         ..Default::default()
     };
     let t = thresholds(config);
+    let velocity_sum = horizontal_velocity_sum(velocity, up);
+    let walking_speed_m_s = mean_speed(velocity_sum);
+    // Forefoot contact lasts until the forefoot is faster than the toe-off speed of Bonci et
+    // al. 2022 (0.8 x the walking speed), never shorter than the onset threshold.
+    let off_speed_m_s = t.speed_m_s.max(0.8 * walking_speed_m_s);
     let sides = crate::signal::in_groups(vec![0, 1], threads, |group| {
         group
             .into_iter()
             .map(|side| {
-                let mut contact = foot_contact(foot, side, n, floor, up, rate_hz, &t);
-                contact.resize(n, false);
-                contact
+                Region::BOTH.map(|region| {
+                    let off = match region {
+                        Region::Rearfoot => t.speed_m_s,
+                        Region::Forefoot => off_speed_m_s,
+                    };
+                    let mut c = region_contact(foot, side, region, n, floor, up, rate_hz, &t, off);
+                    c.resize(n, false);
+                    c
+                })
             })
             .collect::<Vec<_>>()
     });
-    for (side, contact) in sides.into_iter().flatten().enumerate() {
-        out.contact[side] = contact;
+    for (side, regions) in sides.into_iter().flatten().enumerate() {
+        out.contact[side] = regions[0]
+            .iter()
+            .zip(&regions[1])
+            .map(|(a, b)| *a || *b)
+            .collect();
+        out.regions[side] = regions;
+        if foot.has_feet() && foot.n_markers(side) < 3 {
+            out.warnings.push(Warning::Approximation {
+                what: format!(
+                    "{} foot: sole outline guessed from {} foot markers (fewer than 3): foot width from the length (give foot_width_m in the subject)",
+                    ["left", "right"][side],
+                    foot.n_markers(side)
+                ),
+            });
+        }
     }
-    let velocity_sum = horizontal_velocity_sum(velocity, up);
-    let walking_speed_m_s = mean_speed(velocity_sum);
     out.progression = progression(foot, velocity_sum.0, walking_speed_m_s, up);
     let static_trial = walking_speed_m_s < STATIC_SPEED_M_S;
 
@@ -329,7 +400,7 @@ pub fn analyse_on(
         for side in 0..2 {
             if now[side] && !previous[side] {
                 pts.clear();
-                push_foot(&mut pts, foot, side, f, up);
+                push_sole(&mut pts, foot, side, [true, true], f, up);
                 out.footprints.push((side, f, convex_hull(&pts).vertices()));
             }
         }
@@ -337,7 +408,7 @@ pub fn analyse_on(
         let due = static_trial && last_outline.is_none_or(|l| f >= l + rate_hz.round() as usize);
         if has_hull && (changed || due) {
             out.outlines
-                .push((f, bos_hull(&mut pts, foot, now, f, up).vertices()));
+                .push((f, bos_at(&mut pts, foot, &out, f, up).vertices()));
             last_outline = Some(f);
         }
         previous = now;
@@ -361,72 +432,133 @@ pub fn analyse_on(
     out
 }
 
-/// Contact of one foot, frame by frame (module doc).
-fn foot_contact(
+/// Contact of one region of one foot, frame by frame (module doc): slow first, then low.
+///
+/// Speed: the slowest of the region's markers; height: the lowest of the region's markers above
+/// the local floor, each minus its own stance height ([`FloorModel::stance_height_m`]). Only
+/// markers of the trial count (never virtual or derived points). A contact begins below
+/// `t.speed_m_s` ([`detect_contact`]) and lasts while the region stays below `off_speed_m_s`
+/// and `t.height_m` (hysteresis: the metatarsal heads speed up before the toes leave).
+#[allow(clippy::too_many_arguments)]
+fn region_contact(
     foot: &FootFrames,
     side: usize,
+    region: Region,
     n: usize,
-    floor: f64,
+    floor: &FloorModel,
     up: UpAxis,
     rate_hz: f64,
     t: &ContactThresholds,
+    off_speed_m_s: f64,
 ) -> Vec<bool> {
     let dt = 1.0 / rate_hz;
     let mut height = vec![None; n];
     let mut speed: Vec<Option<f64>> = vec![None; n];
     let mut velocity = Vec::new();
-    for (stem, series) in FOOT_STEMS.iter().zip(&foot.points[side]) {
-        if series.is_empty() {
+    let mut any = false;
+    for point in FootPoint::ALL.into_iter().filter(|p| p.region() == region) {
+        let k = point.index();
+        if !foot.is_marker(side, k) {
             continue;
         }
+        let Some(stance) = floor.stance_height_m[side][k] else {
+            continue;
+        };
+        any = true;
+        let series = &foot.points[side][k];
         for (f, p) in series.iter().enumerate() {
-            if let Some(p) = p {
-                let h = up.height(p) - floor;
-                if let Some(slot) = height.get_mut(f) {
-                    *slot = Some(slot.map_or(h, |m: f64| m.min(h)));
-                }
+            if let (Some(p), Some(slot)) = (p, height.get_mut(f)) {
+                let h = floor.height_of(p, up) - stance;
+                *slot = Some(slot.map_or(h, |m: f64| m.min(h)));
             }
         }
-        // Heel and metatarsal heads decide how slow the foot is (toe and malleolus do not).
-        if matches!(*stem, "heel" | "mt1" | "mt2" | "mt5") {
-            derivative::velocity_into(series, dt, &mut velocity);
-            for (f, v) in velocity.iter().enumerate() {
-                if let Some(v) = v {
-                    let s = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
-                    if let Some(slot) = speed.get_mut(f) {
-                        *slot = Some(slot.map_or(s, |m: f64| m.min(s)));
-                    }
-                }
+        derivative::velocity_into(series, dt, &mut velocity);
+        for (f, v) in velocity.iter().enumerate() {
+            if let (Some(v), Some(slot)) = (v, speed.get_mut(f)) {
+                let s = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+                *slot = Some(slot.map_or(s, |m: f64| m.min(s)));
             }
         }
     }
-    detect_contact(&height, &speed, rate_hz, t)
+    if !any {
+        return vec![false; n];
+    }
+    let mut contact = detect_contact(&height, &speed, rate_hz, t);
+    for (_, off) in transitions(&contact) {
+        let mut f = off;
+        while f < n
+            && !contact[f]
+            && speed[f].is_some_and(|v| v < off_speed_m_s)
+            && height[f].is_some_and(|h| h < t.height_m)
+        {
+            contact[f] = true;
+            f += 1;
+        }
+    }
+    contact
 }
 
-/// The foot points of `side` at frame `f`, in the floor plane, appended to `pts`.
-fn push_foot(pts: &mut Vec<[f64; 2]>, foot: &FootFrames, side: usize, f: usize, up: UpAxis) {
-    pts.extend(
-        (0..FOOT_STEMS.len())
-            .filter_map(|k| foot.at(side, k, f))
-            .map(|p| up.horizontal(&p)),
-    );
-}
-
-/// The BoS at frame `f`: the hull of the feet in contact (`now`); `pts` is scratch space.
-fn bos_hull(
+/// The sole parts of `side` in contact (`parts`: rearfoot, forefoot) at frame `f`, on the
+/// floor plane, appended to `pts`; the foot's points themselves when no sole can be built.
+fn push_sole(
     pts: &mut Vec<[f64; 2]>,
     foot: &FootFrames,
-    now: [bool; 2],
+    side: usize,
+    parts: [bool; 2],
+    f: usize,
+    up: UpAxis,
+) {
+    match sole(&foot.marks(side, f, up), foot.marker_radius_m, foot.foot_width_m) {
+        Some(s) => {
+            if parts[0] {
+                pts.extend_from_slice(&s.rearfoot);
+            }
+            if parts[1] {
+                pts.extend_from_slice(&s.forefoot);
+            }
+        }
+        None => pts.extend(
+            (0..FOOT_STEMS.len())
+                .filter_map(|k| foot.at(side, k, f))
+                .map(|p| up.horizontal(&p)),
+        ),
+    }
+}
+
+/// The BoS at frame `f` (module doc): the hull of the sole parts in contact; `pts` is scratch
+/// space.
+pub fn bos_at(
+    pts: &mut Vec<[f64; 2]>,
+    foot: &FootFrames,
+    series: &SupportSeries,
     f: usize,
     up: UpAxis,
 ) -> super::Hull {
     pts.clear();
-    for (side, &on) in now.iter().enumerate() {
-        if on {
-            push_foot(pts, foot, side, f, up);
+    for side in 0..2 {
+        let part = |r: usize| {
+            series.regions[side][r]
+                .get(f)
+                .copied()
+                .unwrap_or(false)
+        };
+        let parts = [part(0), part(1)];
+        if parts[0] || parts[1] {
+            push_sole(pts, foot, side, parts, f, up);
         }
     }
     convex_hull(pts)
+}
+
+/// Mean horizontal position of the frames that have one.
+fn mean_horizontal(points: &[Option<[f64; 3]>], up: UpAxis) -> Option<[f64; 2]> {
+    let (mut sum, mut n) = ([0.0, 0.0], 0usize);
+    for p in points.iter().flatten() {
+        let h = up.horizontal(p);
+        sum = [sum[0] + h[0], sum[1] + h[1]];
+        n += 1;
+    }
+    (n > 0).then(|| [sum[0] / n as f64, sum[1] / n as f64])
 }
 
 /// The per-frame series of the BoS over frames `from .. to`.
@@ -464,7 +596,7 @@ fn bos_frames(
     let mut pts: Vec<[f64; 2]> = Vec::with_capacity(12);
     for f in from..to {
         let now = [out.contact[0][f], out.contact[1][f]];
-        let hull = bos_hull(&mut pts, foot, now, f, up);
+        let hull = bos_at(&mut pts, foot, out, f, up);
         b.nonempty.push(!hull.is_empty());
         b.bos_area_m2.push(hull.area_m2());
         let c = com.get(f).copied().flatten().map(|c| up.horizontal(&c));
