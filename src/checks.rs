@@ -111,7 +111,9 @@ pub fn detect(
     }
     let m = d.map(|mut v| median(&mut v));
     let k = (0..3).max_by(|&a, &b| m[a].abs().total_cmp(&m[b].abs()))?;
-    let dominant = (0..3).filter(|&a| a != k).all(|a| m[k].abs() >= 2.0 * m[a].abs());
+    let dominant = (0..3)
+        .filter(|&a| a != k)
+        .all(|a| m[k].abs() >= 2.0 * m[a].abs());
     let up_axis = dominant.then_some(UpAxis {
         index: k,
         positive: m[k] > 0.0,
@@ -271,10 +273,7 @@ pub fn implausible(
         }
     }
     for (name, length) in segment_lengths_m {
-        let Some((_, share)) = SEGMENT_SHARES
-            .iter()
-            .find(|(kind, _)| name.ends_with(kind))
-        else {
+        let Some((_, share)) = SEGMENT_SHARES.iter().find(|(kind, _)| name.ends_with(kind)) else {
             continue;
         };
         let ratio = length / (share * stature_m);
@@ -349,22 +348,38 @@ mod tests {
         let e = check(&detected(y, 0.9, Some(1.0)), &config, 1.75, "t.csv")
             .unwrap_err()
             .to_string();
-        assert!(e.contains("up_axis = \"z\" contradicts") && e.contains("up_axis = \"y\""), "{e}");
+        assert!(
+            e.contains("up_axis = \"z\" contradicts") && e.contains("up_axis = \"y\""),
+            "{e}"
+        );
     }
 
     #[test]
     fn metres_read_as_millimetres_name_the_unit_fix() {
         let config = Config::default();
-        let e = check(&detected(UpAxis::Z, 0.0009, Some(1000.0)), &config, 1.75, "t.csv")
-            .unwrap_err()
-            .to_string();
-        assert!(e.contains("no [input] units") && e.contains("units = \"m\""), "{e}");
+        let e = check(
+            &detected(UpAxis::Z, 0.0009, Some(1000.0)),
+            &config,
+            1.75,
+            "t.csv",
+        )
+        .unwrap_err()
+        .to_string();
+        assert!(
+            e.contains("no [input] units") && e.contains("units = \"m\""),
+            "{e}"
+        );
     }
 
     #[test]
     fn an_undeclared_agreeing_default_is_reported_as_detected() {
-        let w = check(&detected(UpAxis::Z, 0.9, Some(1.0)), &Config::default(), 1.75, "t")
-            .unwrap();
+        let w = check(
+            &detected(UpAxis::Z, 0.9, Some(1.0)),
+            &Config::default(),
+            1.75,
+            "t",
+        )
+        .unwrap();
         assert_eq!(w.len(), 2);
     }
 

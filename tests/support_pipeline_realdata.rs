@@ -47,7 +47,11 @@ fn walk_dir() -> PathBuf {
         PathBuf::from("/work/shared/realdata")
     };
     let dir = dir.join("walk-lower-body");
-    assert!(dir.exists(), "{} missing: the real walk is needed", dir.display());
+    assert!(
+        dir.exists(),
+        "{} missing: the real walk is needed",
+        dir.display()
+    );
     dir
 }
 
@@ -61,12 +65,7 @@ fn plates(dir: &std::path::Path, n: usize) -> Vec<(Vec<bool>, Vec<Option<[f64; 2
     let header: Vec<String> = reader.headers().unwrap().iter().map(String::from).collect();
     let rows: Vec<Vec<Option<f64>>> = reader
         .records()
-        .map(|r| {
-            r.unwrap()
-                .iter()
-                .map(|c| c.trim().parse().ok())
-                .collect()
-        })
+        .map(|r| r.unwrap().iter().map(|c| c.trim().parse().ok()).collect())
         .collect();
     let col = |name: &str| header.iter().position(|h| h == name).unwrap();
     (1..=7)
@@ -77,7 +76,11 @@ fn plates(dir: &std::path::Path, n: usize) -> Vec<(Vec<bool>, Vec<Option<[f64; 2
                 col(&format!("plate{k}_cop_z_mm")),
             );
             let loaded: Vec<bool> = (0..n)
-                .map(|i| rows.get(3 * i).and_then(|r| r[fy]).is_some_and(|f| f > LOAD_N))
+                .map(|i| {
+                    rows.get(3 * i)
+                        .and_then(|r| r[fy])
+                        .is_some_and(|f| f > LOAD_N)
+                })
                 .collect();
             // Horizontal axes of +y up: (z, x).
             let cop = (0..n)
@@ -94,8 +97,8 @@ fn plates(dir: &std::path::Path, n: usize) -> Vec<(Vec<bool>, Vec<Option<[f64; 2
 #[test]
 fn pipeline_contact_and_bos_agree_with_the_force_plates() {
     let dir = walk_dir();
-    let config = Config::from_raw(&RawConfig::from_toml(WALK_CONFIG, "walk").unwrap(), "walk")
-        .unwrap();
+    let config =
+        Config::from_raw(&RawConfig::from_toml(WALK_CONFIG, "walk").unwrap(), "walk").unwrap();
     // Body mass from the plates: about 68-77 kg (README of the recording); stature assumed.
     let subject = Subject::new(72.0, 1.75, Sex::Male);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
@@ -125,10 +128,17 @@ fn pipeline_contact_and_bos_agree_with_the_force_plates() {
                 .iter()
                 .find(|(a, b)| *a < off && on < *b)
                 .unwrap_or_else(|| panic!("plate {}: no contact of foot {side}", k + 1));
-            println!("plate {}: foot {side} contact {run:?} vs load ({on}, {off})", k + 1);
+            println!(
+                "plate {}: foot {side} contact {run:?} vs load ({on}, {off})",
+                k + 1
+            );
             assert!((run.0 as i64 - on as i64).abs() <= 3, "plate {} on", k + 1);
             if off < n {
-                assert!((run.1 as i64 - off as i64).abs() <= 3, "plate {} off", k + 1);
+                assert!(
+                    (run.1 as i64 - off as i64).abs() <= 3,
+                    "plate {} off",
+                    k + 1
+                );
             }
             for f in on..off {
                 let Some(c) = cop[f] else { continue };
@@ -140,8 +150,14 @@ fn pipeline_contact_and_bos_agree_with_the_force_plates() {
             }
         }
     }
-    assert_eq!(footfalls, 4, "README: four footfalls on plates 6, 5, 3 and 4");
+    assert_eq!(
+        footfalls, 4,
+        "README: four footfalls on plates 6, 5, 3 and 4"
+    );
     let share = inside as f64 / loaded_frames as f64;
     println!("CoP inside the BoS in {inside} of {loaded_frames} loaded frames ({share:.3})");
-    assert!(share >= 0.95, "CoP inside the BoS in {share:.3} of loaded frames");
+    assert!(
+        share >= 0.95,
+        "CoP inside the BoS in {share:.3} of loaded frames"
+    );
 }

@@ -284,8 +284,8 @@ fn fit(samples: &[Sample], below_m: f64) -> FloorModel {
         .filter(|(_, k)| **k)
         .map(|(s, _)| s)
         .collect();
-    let rms = (kept.iter().map(|s| residual(s).powi(2)).sum::<f64>() / kept.len().max(1) as f64)
-        .sqrt();
+    let rms =
+        (kept.iter().map(|s| residual(s).powi(2)).sum::<f64>() / kept.len().max(1) as f64).sqrt();
     // Lowest marker intercept (of markers with kept samples) -> the surface below it.
     let mut present = [false; 12];
     kept.iter().for_each(|s| present[s.marker] = true);
@@ -351,9 +351,10 @@ mod tests {
         // 3 deg along the first axis: tan(3 deg) = 0.0524.
         let s = 3f64.to_radians().tan();
         let m = fit(&samples_on([s, 0.0], &[0.0, 0.02, 0.05]), 0.02);
-        assert!((m.tilt_deg - 3.0).abs() < 1e-6, "{}", m.tilt_deg);
-        assert!((m.level_m - 0.08).abs() < 1e-9);
-        assert!(m.residual_mm < 1e-6);
+        // The ridge shrinks the slope by 0.05^2 / var(x) = 0.2 % here (samples over 4 m).
+        assert!((m.tilt_deg - 3.0).abs() < 0.02, "{}", m.tilt_deg);
+        assert!((m.level_m - 0.08).abs() < 1e-3, "{}", m.level_m);
+        assert!(m.residual_mm < 0.5, "{}", m.residual_mm);
         assert!(!m.is_level());
     }
 

@@ -18,9 +18,9 @@ pub mod contact;
 pub mod events;
 pub mod floor;
 pub mod foot;
-pub mod sole;
 pub mod hull;
 pub mod margin;
+pub mod sole;
 
 pub use contact::{detect_contact, floor_level, percentile, transitions, ContactThresholds};
 pub use events::{

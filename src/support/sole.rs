@@ -83,11 +83,7 @@ pub fn sole(marks: &FootMarks, radius_m: f64, foot_width_m: Option<f64>) -> Opti
     let u = [d[0] / reach, d[1] / reach];
     let v = [-u[1], u[0]];
     let rear = [heel[0] + radius_m * u[0], heel[1] + radius_m * u[1]];
-    let length = if is_toe {
-        reach
-    } else {
-        reach / MTP_FRACTION
-    };
+    let length = if is_toe { reach } else { reach / MTP_FRACTION };
     let width = foot_width_m
         .or_else(|| {
             marks.mt1.zip(marks.mt5).map(|(a, b)| {
@@ -105,10 +101,7 @@ pub fn sole(marks: &FootMarks, radius_m: f64, foot_width_m: Option<f64>) -> Opti
     let at = |along: f64, across: f64, centre: f64| {
         let a = along * length;
         let c = across + centre;
-        [
-            rear[0] + a * u[0] + c * v[0],
-            rear[1] + a * u[1] + c * v[1],
-        ]
+        [rear[0] + a * u[0] + c * v[0], rear[1] + a * u[1] + c * v[1]]
     };
     let (hw, w) = (HEEL_WIDTH_FRACTION * width / 2.0, width / 2.0);
     let rearfoot = vec![
@@ -144,8 +137,16 @@ mod tests {
         let mut all = s.rearfoot.clone();
         all.extend(s.forefoot.iter().copied());
         let hull = convex_hull(&all);
-        let xs = hull.vertices().iter().map(|p| p[0]).fold(f64::MIN, f64::max);
-        let ys = hull.vertices().iter().map(|p| p[1]).fold(f64::MIN, f64::max);
+        let xs = hull
+            .vertices()
+            .iter()
+            .map(|p| p[0])
+            .fold(f64::MIN, f64::max);
+        let ys = hull
+            .vertices()
+            .iter()
+            .map(|p| p[1])
+            .fold(f64::MIN, f64::max);
         assert!((xs - 0.25).abs() < 1e-12);
         assert!((ys - 0.39 * 0.25 / 2.0).abs() < 1e-12);
         // Area of the simplified outline: between the width x length box (0.0244 m^2) and

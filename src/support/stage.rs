@@ -338,9 +338,12 @@ pub fn analyse_on(
             .into_iter()
             .map(|side| {
                 Region::BOTH.map(|region| {
+                    // Without a toe marker the metatarsal heads speed up before the toes
+                    // leave: the forefoot stays in contact up to the toe-off speed.
+                    let has_toe = foot.is_marker(side, FootPoint::Toe.index());
                     let off = match region {
-                        Region::Rearfoot => t.speed_m_s,
-                        Region::Forefoot => off_speed_m_s,
+                        Region::Forefoot if !has_toe => off_speed_m_s,
+                        _ => t.speed_m_s,
                     };
                     let mut c = region_contact(foot, side, region, n, floor, up, rate_hz, &t, off);
                     c.resize(n, false);
@@ -437,8 +440,9 @@ pub fn analyse_on(
 /// Speed: the slowest of the region's markers; height: the lowest of the region's markers above
 /// the local floor, each minus its own stance height ([`FloorModel::stance_height_m`]). Only
 /// markers of the trial count (never virtual or derived points). A contact begins below
-/// `t.speed_m_s` ([`detect_contact`]) and lasts while the region stays below `off_speed_m_s`
-/// and `t.height_m` (hysteresis: the metatarsal heads speed up before the toes leave).
+/// `t.speed_m_s` ([`detect_contact`]); when `off_speed_m_s` is higher, it lasts while the region
+/// stays slower than that (hysteresis: without a toe marker, the metatarsal heads rise and
+/// speed up while the toes are still down).
 #[allow(clippy::too_many_arguments)]
 fn region_contact(
     foot: &FootFrames,
@@ -484,13 +488,12 @@ fn region_contact(
         return vec![false; n];
     }
     let mut contact = detect_contact(&height, &speed, rate_hz, t);
+    if off_speed_m_s <= t.speed_m_s {
+        return contact;
+    }
     for (_, off) in transitions(&contact) {
         let mut f = off;
-        while f < n
-            && !contact[f]
-            && speed[f].is_some_and(|v| v < off_speed_m_s)
-            && height[f].is_some_and(|h| h < t.height_m)
-        {
+        while f < n && !contact[f] && speed[f].is_some_and(|v| v < off_speed_m_s) {
             contact[f] = true;
             f += 1;
         }
@@ -508,7 +511,11 @@ fn push_sole(
     f: usize,
     up: UpAxis,
 ) {
-    match sole(&foot.marks(side, f, up), foot.marker_radius_m, foot.foot_width_m) {
+    match sole(
+        &foot.marks(side, f, up),
+        foot.marker_radius_m,
+        foot.foot_width_m,
+    ) {
         Some(s) => {
             if parts[0] {
                 pts.extend_from_slice(&s.rearfoot);
@@ -536,12 +543,7 @@ pub fn bos_at(
 ) -> super::Hull {
     pts.clear();
     for side in 0..2 {
-        let part = |r: usize| {
-            series.regions[side][r]
-                .get(f)
-                .copied()
-                .unwrap_or(false)
-        };
+        let part = |r: usize| series.regions[side][r].get(f).copied().unwrap_or(false);
         let parts = [part(0), part(1)];
         if parts[0] || parts[1] {
             push_sole(pts, foot, side, parts, f, up);
