@@ -114,6 +114,14 @@ pub enum LandmarkError {
         what: String,
         hint: String,
     },
+    #[error("[landmarks] `{key}` is not a landmark of the vocabulary (closest: `{closest}`); `gravline landmarks` lists them")]
+    UnknownKey { key: String, closest: String },
+    #[error("{file}: landmarks not found: {landmarks}; `gravline landmarks {file}` prints a [landmarks] template for its labels (first: {first})")]
+    ManyMissing {
+        file: String,
+        landmarks: String,
+        first: String,
+    },
     #[error("[virtual] `{landmark}` refers to itself through {chain}; break the cycle")]
     Cycle { landmark: String, chain: String },
     #[error("[model] endpoints: segment `{segment}` has no row `{key}` in table {table}; rows are {rows}")]
@@ -163,8 +171,19 @@ impl BodyModel {
         table: &SegmentTable,
         optional: &[&str],
     ) -> Result<BodyModel, LandmarkError> {
+        let names = vocabulary::all_names();
+        for key in config.landmarks.keys() {
+            if !names.iter().any(|n| fold_label(n) == fold_label(key)) {
+                let closest = closest_labels(key, &names, 1);
+                return Err(LandmarkError::UnknownKey {
+                    key: key.clone(),
+                    closest: closest.first().cloned().unwrap_or_default(),
+                });
+            }
+        }
         let mut r = Resolver::new(labels, file, config, subject);
         let mut segments = Vec::new();
+        let mut missing: Vec<LandmarkError> = Vec::new();
         let trunk_parts = config
             .endpoints
             .get(&SegmentKind::Trunk)
@@ -223,8 +242,15 @@ impl BodyModel {
                 let full = |stem: &str| side.map_or(stem.to_string(), |s| s.name(stem));
                 let origin_name = full(&row.origin);
                 let other_name = full(&row.other);
-                let origin = r.resolve(&origin_name)?;
-                let other = r.resolve(&other_name)?;
+                let (origin, other) = match (r.resolve(&origin_name), r.resolve(&other_name)) {
+                    (Ok(a), Ok(b)) => (a, b),
+                    (a, b) => {
+                        for e in [a.err(), b.err()].into_iter().flatten() {
+                            missing.push(e);
+                        }
+                        continue;
+                    }
+                };
                 segments.push(Segment {
                     name: full(kind.name()),
                     kind,
@@ -240,6 +266,28 @@ impl BodyModel {
                     mass_kg: row.mass_fraction * subject.mass_kg,
                     com_fraction: row.com_fraction,
                     row_key: row.key(),
+                });
+            }
+        }
+        match missing.len() {
+            0 => {}
+            1 => return Err(missing.remove(0)),
+            _ => {
+                let mut names: Vec<String> = Vec::new();
+                for e in &missing {
+                    let n = match e {
+                        LandmarkError::Missing { landmark, .. }
+                        | LandmarkError::NeedsMeasurement { landmark, .. } => landmark.clone(),
+                        other => other.to_string(),
+                    };
+                    if !names.contains(&n) {
+                        names.push(n);
+                    }
+                }
+                return Err(LandmarkError::ManyMissing {
+                    file: file.to_string(),
+                    landmarks: names.join(", "),
+                    first: missing.remove(0).to_string(),
                 });
             }
         }
@@ -488,6 +536,10 @@ fn de_leva_arm_lengths_m(sex: Sex) -> [f64; 5] {
 /// Builds point definitions on demand, in dependency order.
 struct Resolver<'a> {
     labels: HashMap<&'a str, usize>,
+    /// Labels folded by [`fold_label`] (a fold shared by two labels is left out: ambiguous).
+    folded: HashMap<String, Option<usize>>,
+    /// The `[landmarks]` map with folded keys.
+    map: HashMap<String, &'a str>,
     all_labels: &'a [String],
     file: &'a str,
     config: &'a Config,
@@ -507,6 +559,20 @@ impl<'a> Resolver<'a> {
                 .enumerate()
                 .map(|(i, l)| (l.as_str(), i))
                 .collect(),
+            folded: {
+                let mut m: HashMap<String, Option<usize>> = HashMap::new();
+                for (i, l) in labels.iter().enumerate() {
+                    m.entry(fold_label(l))
+                        .and_modify(|v| *v = None)
+                        .or_insert(Some(i));
+                }
+                m
+            },
+            map: config
+                .landmarks
+                .iter()
+                .map(|(k, v)| (fold_label(k), v.as_str()))
+                .collect(),
             all_labels: labels,
             file,
             config,
@@ -521,11 +587,19 @@ impl<'a> Resolver<'a> {
 
     /// The label a landmark is looked up under: the `[landmarks]` map, else its own name.
     fn label_of<'b>(&'b self, name: &'b str) -> &'b str {
-        self.config.landmarks.get(name).map_or(name, String::as_str)
+        match self.config.landmarks.get(name) {
+            Some(label) => label,
+            None => self.map.get(&fold_label(name)).copied().unwrap_or(name),
+        }
     }
 
+    /// The column of a landmark: its label exactly, else up to case and separators.
     fn label_index(&self, name: &str) -> Option<usize> {
-        self.labels.get(self.label_of(name)).copied()
+        let label = self.label_of(name);
+        self.labels
+            .get(label)
+            .copied()
+            .or_else(|| self.folded.get(&fold_label(label)).copied().flatten())
     }
 
     fn push(&mut self, name: &str, def: Def) -> PointId {
@@ -888,6 +962,16 @@ fn other(side: Side) -> Side {
     }
 }
 
+/// A label folded for matching: lower case, letters and digits only (`L.KNEE.LAT`, `l-knee-lat`
+/// and `l_knee_lat` all fold to `lkneelat`).
+pub fn fold_label(label: &str) -> String {
+    label
+        .chars()
+        .filter(|c| c.is_alphanumeric())
+        .flat_map(char::to_lowercase)
+        .collect()
+}
+
 /// Up to `n` labels closest to `target` by edit distance (ties in file order).
 pub fn closest_labels(target: &str, labels: &[String], n: usize) -> Vec<String> {
     let mut scored: Vec<(usize, usize, &String)> = labels
@@ -1031,13 +1115,13 @@ mod tests {
 
     #[test]
     fn a_mapped_label_that_is_absent_is_reported_with_closest_labels() {
-        let labels: Vec<String> = vec!["LKNE".into(), "RKNE".into()];
-        let cfg = config("[landmarks]\nl_knee_lat = \"LKNEE\"\n");
+        let labels: Vec<String> = vec!["KneeOutL".into(), "KneeOutR".into()];
+        let cfg = config("[landmarks]\nl_knee_lat = \"KneeOutLeft\"\n");
         let subject = Subject::new(70.0, 1.7, Sex::Male);
         let mut r = Resolver::new(&labels, "t.csv", &cfg, &subject);
         let e = r.resolve("l_knee_lat").unwrap_err().to_string();
         assert!(
-            e.contains("`LKNEE`") && e.contains("closest labels: LKNE"),
+            e.contains("`KneeOutLeft`") && e.contains("closest labels: KneeOutL"),
             "{e}"
         );
     }
