@@ -203,7 +203,7 @@ pub fn check(
         format!("no [input] units, so the default \"{declared_word}\",")
     };
     match detected.unit_factor {
-        Some(f) if f == 1.0 => {
+        Some(1.0) => {
             if !units_declared {
                 found.push(Warning::Detected {
                     what: format!(

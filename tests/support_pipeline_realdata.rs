@@ -57,7 +57,10 @@ fn walk_dir() -> PathBuf {
 
 /// Plate columns: per marker frame (every 3rd plate sample, 450 / 150 Hz), vertical force and
 /// CoP (x, z) in metres.
-fn plates(dir: &std::path::Path, n: usize) -> Vec<(Vec<bool>, Vec<Option<[f64; 2]>>)> {
+/// One plate: loaded per marker frame, and the CoP on the floor plane (m) where loaded.
+type Plate = (Vec<bool>, Vec<Option<[f64; 2]>>);
+
+fn plates(dir: &std::path::Path, n: usize) -> Vec<Plate> {
     let mut reader = csv::ReaderBuilder::new()
         .comment(Some(b'#'))
         .from_path(dir.join("plates.csv"))
@@ -140,8 +143,8 @@ fn pipeline_contact_and_bos_agree_with_the_force_plates() {
                     k + 1
                 );
             }
-            for f in on..off {
-                let Some(c) = cop[f] else { continue };
+            for (f, c) in cop.iter().enumerate().take(off).skip(on) {
+                let Some(c) = *c else { continue };
                 loaded_frames += 1;
                 let hull = bos_at(&mut pts, &r.feet, &r.support, f, up);
                 if signed_distance(&hull, c).is_some_and(|d| d >= 0.0) {
