@@ -23,6 +23,8 @@
 //! A declared `units` or `up_axis` that contradicts the detection is an error; an undeclared
 //! (default) one that contradicts it is an error too (the data cannot be read right under the
 //! default), naming what was detected; an undeclared one that agrees is reported as detected.
+//! An extent that no unit brings into the band (a folded or lying body, a wrong stature) is a
+//! plausibility warning, not an error.
 //!
 //! After the computation, [`implausible`] lists the figures no person produces: a mean CoM
 //! height outside 0.35-0.75 of stature (upright about 0.55-0.57; Winter 2009, Biomechanics and
@@ -224,13 +226,20 @@ pub fn check(
             )));
         }
         None => {
-            return Err(err(format!(
-                "the pelvis/head markers lie {:.3} m above the foot markers along {}, {share:.2} of the stature of {stature_m:.2} m (expected {:.2}-{:.2}); check [input] units and up_axis, the subject's height_m and the [landmarks] map",
-                detected.extent_m,
-                detected.up_axis.unwrap_or(config.up_axis),
-                EXTENT_BAND.0,
-                EXTENT_BAND.1
-            )));
+            // No unit makes a standing body of it: an unusual posture, or a wrong stature or
+            // map; not a contradiction of a declaration, so a warning, listed first.
+            found.insert(
+                0,
+                Warning::Plausibility {
+                    message: format!(
+                        "the pelvis/head markers lie {:.3} m above the foot markers along {}, {share:.2} of the stature of {stature_m:.2} m (expected {:.2}-{:.2} upright): check [input] units and up_axis, the subject's height_m and the [landmarks] map",
+                        detected.extent_m,
+                        detected.up_axis.unwrap_or(config.up_axis),
+                        EXTENT_BAND.0,
+                        EXTENT_BAND.1
+                    ),
+                },
+            );
         }
     }
     Ok(found)
