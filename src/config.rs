@@ -719,10 +719,12 @@ mod tests {
     fn the_printed_default_parses_to_the_default() {
         let raw = RawConfig::from_toml(DEFAULT_CONFIG_TOML, "default").unwrap();
         // The printed file writes the reading declarations; the empty configuration does not.
-        let mut default = Config::default();
-        default.declared = Declared {
-            units: true,
-            up_axis: true,
+        let default = Config {
+            declared: Declared {
+                units: true,
+                up_axis: true,
+            },
+            ..Config::default()
         };
         assert_eq!(Config::from_raw(&raw, "default").unwrap(), default);
     }

@@ -14,13 +14,16 @@
 //!   speed threshold), the floor level, contact runs.
 //! - [`events`]: heel strikes and toe-offs by the coordinate method of Zeni et al. 2008.
 
+pub mod bos;
 pub mod contact;
 pub mod events;
 pub mod floor;
 pub mod foot;
 pub mod hull;
 pub mod margin;
+pub mod progression;
 pub mod sole;
+pub mod steps;
 
 pub use contact::{detect_contact, floor_level, percentile, transitions, ContactThresholds};
 pub use events::{

@@ -2,11 +2,22 @@
 //! floor level, foot contact, the BoS polygon and the signed margins of the CoM and XCoM, and,
 //! for walking trials, gait events and per-step figures (DESIGN.md 7).
 //!
-//! - Floor: `[support] floor_m`, else the 2nd percentile of all foot-point heights.
-//! - Contact per foot: the lowest foot point within `contact_height_m` of the floor and the
-//!   slowest of heel and metatarsal heads below `contact_speed_m_s` ([`detect_contact`]).
-//! - BoS: convex hull of heel, toe, metatarsal heads and lateral malleolus of every foot in
-//!   contact, projected to the floor; no foot in contact = no BoS.
+//! Concerns, one module each: floor ([`super::floor`]), contact per foot region
+//! ([`super::contact`], regions in [`super::foot`]), sole outlines and the BoS ([`super::sole`],
+//! [`super::bos`]), progression ([`super::progression`]), events and steps ([`super::steps`],
+//! [`super::events`]); this module gathers the foot series and runs them in order.
+//!
+//! - Floor: fitted to the stance samples of the foot markers (never virtual points), a robust
+//!   plane with local cells; `[support] floor_m` forces a level floor surface.
+//! - Contact per foot region (rearfoot: heel, lateral malleolus; forefoot: toe, metatarsal
+//!   heads): speed first, the slowest of the region's markers below `contact_speed_m_s`
+//!   (Ghoussayni et al. 2004 threshold), then height, the lowest marker within
+//!   `contact_height_m` of its own stance height above the local floor ([`detect_contact`]);
+//!   without a toe marker the forefoot stays down until faster than 0.8 x the walking speed
+//!   (the toe-off threshold of Bonci et al. 2022). A foot is in contact when either region is.
+//! - BoS: convex hull of the sole parts (rearfoot, forefoot) in contact, each foot's sole
+//!   outlined from its markers, the marker radius and the foot width ([`super::sole`]); no part
+//!   in contact = no BoS.
 //! - `bos_margin_m`: signed distance from the CoM's floor projection to the BoS boundary,
 //!   positive inside; `mos_m` the same from the XCoM (Hof et al. 2005, J Biomech 38:1-8).
 //!   `mos_ap_m`: distance from the XCoM to the anterior BoS edge along the progression
@@ -18,26 +29,29 @@
 //! - Events: Zeni et al. 2008 (Gait Posture 27:710) with the sacrum at the PSIS midpoint (or the
 //!   sacral marker), refined by default by the speed thresholds of Bonci et al. 2022 (heel speed
 //!   below 0.5 × and toe speed above 0.8 × the mean horizontal CoM speed; [`refine_events`]);
-//!   `[support] gait_events = "zeni"` keeps the Zeni frames. Steps: one per heel strike, with step length and width between the two
-//!   heels at heel strike, AP MoS at heel strike (the leading heel, the front of the BoS as the
-//!   heel lands, minus the XCoM along progression; Hof et al. 2005), the minimum ML MoS in the
-//!   single stance that
-//!   follows (contralateral toe-off to contralateral heel strike) and the CoM vertical excursion
+//!   `[support] gait_events = "zeni"` keeps the Zeni frames. Steps: one per heel strike, with
+//!   step length and width between the two heels at heel strike, AP MoS at heel strike (the
+//!   leading heel, the front of the BoS as the heel lands, minus the XCoM along progression;
+//!   Hof et al. 2005), the minimum ML MoS in the single stance that follows (contralateral toe-off to contralateral heel strike) and the CoM vertical excursion
 //!   over the stride that starts there.
 //!
 //! Units: metres, seconds, m/s.
+//!
+//! [`detect_contact`]: super::detect_contact
+//! [`refine_events`]: super::refine_events
 
+pub use super::bos::bos_at;
+use super::bos::{bos_frames, mean_horizontal, push_sole};
+use super::contact::region_contact;
 use super::floor::FloorModel;
 use super::foot::{FootPoint, Region};
-use super::sole::{sole, FootMarks};
-use super::{
-    convex_hull, detect_contact, directional_margin, refine_events, signed_distance, transitions,
-    zeni_events, ContactThresholds, GaitEvents, RefineOptions,
-};
+use super::progression::{horizontal_velocity_sum, mean_speed, progression};
+use super::sole::FootMarks;
+use super::steps::{gait, Events};
+use super::{convex_hull, ContactThresholds, GaitEvents};
 use crate::body::model::PointId;
 use crate::body::BodyModel;
-use crate::config::{GaitEventMethod, SupportConfig};
-use crate::signal::derivative;
+use crate::config::SupportConfig;
 use crate::trial::UpAxis;
 use crate::warning::Warning;
 use nalgebra::Vector3;
@@ -51,7 +65,7 @@ pub const FLOOR_PERCENTILE: f64 = 2.0;
 
 /// Foot points, in this order, per side.
 pub const FOOT_STEMS: [&str; 6] = ["heel", "toe", "mt1", "mt2", "mt5", "ankle_lat"];
-const HEEL: usize = 0;
+pub(crate) const HEEL: usize = 0;
 const TOE: usize = 1;
 const MT2: usize = 3;
 
@@ -182,7 +196,7 @@ impl FootFrames {
 
     /// The foot point standing for the toe of `side`: the toe, or the 2nd metatarsal head when
     /// the trial has no toe.
-    fn front(&self, side: usize) -> usize {
+    pub(crate) fn front(&self, side: usize) -> usize {
         if self.points[side][TOE].is_empty() {
             MT2
         } else {
@@ -190,7 +204,7 @@ impl FootFrames {
         }
     }
 
-    fn at(&self, side: usize, k: usize, frame: usize) -> Option<[f64; 3]> {
+    pub(crate) fn at(&self, side: usize, k: usize, frame: usize) -> Option<[f64; 3]> {
         self.points[side][k].get(frame).copied().flatten()
     }
 }
@@ -433,386 +447,4 @@ pub fn analyse_on(
         }
     }
     out
-}
-
-/// Contact of one region of one foot, frame by frame (module doc): slow first, then low.
-///
-/// Speed: the slowest of the region's markers; height: the lowest of the region's markers above
-/// the local floor, each minus its own stance height ([`FloorModel::stance_height_m`]). Only
-/// markers of the trial count (never virtual or derived points). A contact begins below
-/// `t.speed_m_s` ([`detect_contact`]); when `off_speed_m_s` is higher, it lasts while the region
-/// stays slower than that (hysteresis: without a toe marker, the metatarsal heads rise and
-/// speed up while the toes are still down).
-#[allow(clippy::too_many_arguments)]
-fn region_contact(
-    foot: &FootFrames,
-    side: usize,
-    region: Region,
-    n: usize,
-    floor: &FloorModel,
-    up: UpAxis,
-    rate_hz: f64,
-    t: &ContactThresholds,
-    off_speed_m_s: f64,
-) -> Vec<bool> {
-    let dt = 1.0 / rate_hz;
-    let mut height = vec![None; n];
-    let mut speed: Vec<Option<f64>> = vec![None; n];
-    let mut velocity = Vec::new();
-    let mut any = false;
-    for point in FootPoint::ALL.into_iter().filter(|p| p.region() == region) {
-        let k = point.index();
-        if !foot.is_marker(side, k) {
-            continue;
-        }
-        let Some(stance) = floor.stance_height_m[side][k] else {
-            continue;
-        };
-        any = true;
-        let series = &foot.points[side][k];
-        for (f, p) in series.iter().enumerate() {
-            if let (Some(p), Some(slot)) = (p, height.get_mut(f)) {
-                let h = floor.height_of(p, up) - stance;
-                *slot = Some(slot.map_or(h, |m: f64| m.min(h)));
-            }
-        }
-        derivative::velocity_into(series, dt, &mut velocity);
-        for (f, v) in velocity.iter().enumerate() {
-            if let (Some(v), Some(slot)) = (v, speed.get_mut(f)) {
-                let s = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
-                *slot = Some(slot.map_or(s, |m: f64| m.min(s)));
-            }
-        }
-    }
-    if !any {
-        return vec![false; n];
-    }
-    let mut contact = detect_contact(&height, &speed, rate_hz, t);
-    if off_speed_m_s <= t.speed_m_s {
-        return contact;
-    }
-    for (_, off) in transitions(&contact) {
-        let mut f = off;
-        while f < n && !contact[f] && speed[f].is_some_and(|v| v < off_speed_m_s) {
-            contact[f] = true;
-            f += 1;
-        }
-    }
-    contact
-}
-
-/// The sole parts of `side` in contact (`parts`: rearfoot, forefoot) at frame `f`, on the
-/// floor plane, appended to `pts`; the foot's points themselves when no sole can be built.
-fn push_sole(
-    pts: &mut Vec<[f64; 2]>,
-    foot: &FootFrames,
-    side: usize,
-    parts: [bool; 2],
-    f: usize,
-    up: UpAxis,
-) {
-    match sole(
-        &foot.marks(side, f, up),
-        foot.marker_radius_m,
-        foot.foot_width_m,
-    ) {
-        Some(s) => {
-            if parts[0] {
-                pts.extend_from_slice(&s.rearfoot);
-            }
-            if parts[1] {
-                pts.extend_from_slice(&s.forefoot);
-            }
-        }
-        None => pts.extend(
-            (0..FOOT_STEMS.len())
-                .filter_map(|k| foot.at(side, k, f))
-                .map(|p| up.horizontal(&p)),
-        ),
-    }
-}
-
-/// The BoS at frame `f` (module doc): the hull of the sole parts in contact; `pts` is scratch
-/// space.
-pub fn bos_at(
-    pts: &mut Vec<[f64; 2]>,
-    foot: &FootFrames,
-    series: &SupportSeries,
-    f: usize,
-    up: UpAxis,
-) -> super::Hull {
-    pts.clear();
-    for side in 0..2 {
-        let part = |r: usize| series.regions[side][r].get(f).copied().unwrap_or(false);
-        let parts = [part(0), part(1)];
-        if parts[0] || parts[1] {
-            push_sole(pts, foot, side, parts, f, up);
-        }
-    }
-    convex_hull(pts)
-}
-
-/// Mean horizontal position of the frames that have one.
-fn mean_horizontal(points: &[Option<[f64; 3]>], up: UpAxis) -> Option<[f64; 2]> {
-    let (mut sum, mut n) = ([0.0, 0.0], 0usize);
-    for p in points.iter().flatten() {
-        let h = up.horizontal(p);
-        sum = [sum[0] + h[0], sum[1] + h[1]];
-        n += 1;
-    }
-    (n > 0).then(|| [sum[0] / n as f64, sum[1] / n as f64])
-}
-
-/// The per-frame series of the BoS over frames `from .. to`.
-#[derive(Default)]
-struct BosFrames {
-    bos_area_m2: Vec<Option<f64>>,
-    bos_margin_m: Vec<Option<f64>>,
-    mos_m: Vec<Option<f64>>,
-    mos_ap_m: Vec<Option<f64>>,
-    mos_ml_m: Vec<Option<f64>>,
-    /// Whether the BoS is not empty.
-    nonempty: Vec<bool>,
-}
-
-/// BoS area and margins over frames `from .. to` (contact and progression are in `out`).
-fn bos_frames(
-    out: &SupportSeries,
-    foot: &FootFrames,
-    com: &[Option<[f64; 3]>],
-    xcom: &[Option<[f64; 3]>],
-    up: UpAxis,
-    from: usize,
-    to: usize,
-) -> BosFrames {
-    let len = to - from;
-    let mut b = BosFrames {
-        bos_area_m2: Vec::with_capacity(len),
-        bos_margin_m: Vec::with_capacity(len),
-        mos_m: Vec::with_capacity(len),
-        mos_ap_m: Vec::with_capacity(len),
-        mos_ml_m: Vec::with_capacity(len),
-        nonempty: Vec::with_capacity(len),
-    };
-    let ml = out.progression.map(|[x, y]| [-y, x]);
-    let mut pts: Vec<[f64; 2]> = Vec::with_capacity(12);
-    for f in from..to {
-        let now = [out.contact[0][f], out.contact[1][f]];
-        let hull = bos_at(&mut pts, foot, out, f, up);
-        b.nonempty.push(!hull.is_empty());
-        b.bos_area_m2.push(hull.area_m2());
-        let c = com.get(f).copied().flatten().map(|c| up.horizontal(&c));
-        b.bos_margin_m
-            .push(c.and_then(|c| signed_distance(&hull, c)));
-        let xi = xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
-        b.mos_m.push(xi.and_then(|x| signed_distance(&hull, x)));
-        let along =
-            |d: Option<[f64; 2]>| xi.zip(d).and_then(|(x, d)| directional_margin(&hull, x, d));
-        b.mos_ap_m.push(along(out.progression).map(|m| m.ahead_m));
-        // ML: in single stance the margin to the stance foot's lateral edge (outward along the
-        // stance side, Hof 2005 / methods.md 2); in double stance the nearer lateral edge.
-        let ml_margin = match now {
-            [true, false] => along(ml).map(|m| m.ahead_m),
-            [false, true] => along(ml).map(|m| m.behind_m),
-            _ => along(ml).map(|m| m.nearer_m()),
-        };
-        b.mos_ml_m.push(ml_margin);
-    }
-    b
-}
-
-/// The sum of the horizontal CoM velocities of the frames that have one, and their count.
-fn horizontal_velocity_sum(velocity: &[Option<[f64; 3]>], up: UpAxis) -> ([f64; 2], usize) {
-    let (mut sum, mut n) = ([0.0, 0.0], 0usize);
-    for v in velocity.iter().flatten() {
-        let h = up.horizontal(v);
-        sum[0] += h[0];
-        sum[1] += h[1];
-        n += 1;
-    }
-    (sum, n)
-}
-
-/// The speed of the mean horizontal CoM velocity, from [`horizontal_velocity_sum`] (0 without
-/// velocities).
-fn mean_speed((sum, n): ([f64; 2], usize)) -> f64 {
-    if n == 0 {
-        return 0.0;
-    }
-    (sum[0] * sum[0] + sum[1] * sum[1]).sqrt() / n as f64
-}
-
-/// Progression direction (module doc): along the summed horizontal CoM velocity `velocity_sum`
-/// when the mean speed is at least [`STATIC_SPEED_M_S`], else from the feet.
-fn progression(
-    foot: &FootFrames,
-    velocity_sum: [f64; 2],
-    mean_speed_m_s: f64,
-    up: UpAxis,
-) -> Option<[f64; 2]> {
-    if mean_speed_m_s >= STATIC_SPEED_M_S {
-        return unit(velocity_sum);
-    }
-    let mut dir = [0.0, 0.0];
-    for side in 0..2 {
-        let front = foot.front(side);
-        for f in 0..foot.points[side][HEEL].len() {
-            if let (Some(h), Some(t)) = (foot.at(side, HEEL, f), foot.at(side, front, f)) {
-                let (h, t) = (up.horizontal(&h), up.horizontal(&t));
-                dir = [dir[0] + t[0] - h[0], dir[1] + t[1] - h[1]];
-            }
-        }
-    }
-    unit(dir)
-}
-
-fn unit(v: [f64; 2]) -> Option<[f64; 2]> {
-    let n = (v[0] * v[0] + v[1] * v[1]).sqrt();
-    (n > 1e-9).then(|| [v[0] / n, v[1] / n])
-}
-
-fn dot(a: [f64; 2], b: [f64; 2]) -> f64 {
-    a[0] * b[0] + a[1] * b[1]
-}
-
-/// How [`gait`] finds events.
-#[derive(Clone, Copy, Debug)]
-struct Events {
-    method: GaitEventMethod,
-    /// Mean horizontal CoM speed, the walking speed of the Bonci et al. 2022 thresholds.
-    walking_speed_m_s: f64,
-}
-
-/// 3-D speed per frame of one foot point, m/s, `None` where unknown.
-fn speed_of(series: &[Option<[f64; 3]>], rate_hz: f64) -> Vec<Option<f64>> {
-    let mut velocity = Vec::new();
-    derivative::velocity_into(series, 1.0 / rate_hz, &mut velocity);
-    velocity
-        .iter()
-        .map(|v| v.map(|v| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()))
-        .collect()
-}
-
-/// The first of the frames `sorted` (in increasing order, as events are) after `f`.
-fn first_after(sorted: &[usize], f: usize) -> Option<usize> {
-    sorted.get(sorted.partition_point(|&t| t <= f)).copied()
-}
-
-/// Gait events and steps (module doc).
-#[allow(clippy::too_many_arguments)]
-fn gait(
-    out: &mut SupportSeries,
-    foot: &FootFrames,
-    com: &[Option<[f64; 3]>],
-    xcom: &[Option<[f64; 3]>],
-    up: UpAxis,
-    times_s: &[f64],
-    rate_hz: f64,
-    prog: [f64; 2],
-    events: Events,
-    threads: usize,
-) {
-    let n = com.len();
-    let along = |side: usize, k: usize| -> Vec<Option<f64>> {
-        (0..n)
-            .map(|f| {
-                let p = foot.at(side, k, f)?;
-                let s = foot.sacrum.get(f).copied().flatten()?;
-                Some(dot(up.horizontal(&p), prog) - dot(up.horizontal(&s), prog))
-            })
-            .collect()
-    };
-    let toe = |side: usize| foot.front(side);
-    // Events of the left foot when it has a heel and toe, then of the right when both have.
-    let has = |side: usize| {
-        !(foot.points[side][HEEL].is_empty() || foot.points[side][toe(side)].is_empty())
-    };
-    let sides: Vec<usize> = (0..2).take_while(|&side| has(side)).collect();
-    let found = crate::signal::in_groups(sides.clone(), threads, |group| {
-        group
-            .into_iter()
-            .map(|side| {
-                let zeni = zeni_events(&along(side, HEEL), &along(side, toe(side)), rate_hz);
-                match events.method {
-                    GaitEventMethod::Zeni => zeni,
-                    GaitEventMethod::ZeniBonci => refine_events(
-                        &zeni,
-                        &speed_of(&foot.points[side][HEEL], rate_hz),
-                        &speed_of(&foot.points[side][toe(side)], rate_hz),
-                        events.walking_speed_m_s,
-                        &RefineOptions::default(),
-                    ),
-                }
-            })
-            .collect::<Vec<_>>()
-    });
-    for (&side, e) in sides.iter().zip(found.into_iter().flatten()) {
-        out.events[side] = e;
-    }
-    if sides.len() < 2 {
-        return;
-    }
-    let ml = [-prog[1], prog[0]];
-    let xcom_h = |f: usize| xcom.get(f).copied().flatten().map(|x| up.horizontal(&x));
-    let time = |f: usize| times_s.get(f).copied().unwrap_or(f as f64 / rate_hz);
-    let mut steps = Vec::new();
-    for side in 0..2 {
-        let other = 1 - side;
-        let hs = &out.events[side].heel_strikes;
-        for (i, &f) in hs.iter().enumerate() {
-            let heel = foot.at(side, HEEL, f).map(|p| up.horizontal(&p));
-            let other_heel = foot.at(other, HEEL, f).map(|p| up.horizontal(&p));
-            let d = heel
-                .zip(other_heel)
-                .map(|(a, b)| [a[0] - b[0], a[1] - b[1]]);
-            let toe_off = first_after(&out.events[side].toe_offs, f);
-            // Single stance on `side`: from the other foot's toe-off to its next heel strike.
-            let other_to = first_after(&out.events[other].toe_offs, f);
-            let other_hs = other_to.and_then(|t0| first_after(&out.events[other].heel_strikes, t0));
-            let min_ml = match (other_to, other_hs) {
-                (Some(a), Some(b)) => out.mos_ml_m[a..b.min(n)]
-                    .iter()
-                    .flatten()
-                    .copied()
-                    .reduce(f64::min),
-                _ => None,
-            };
-            let excursion = hs.get(i + 1).and_then(|&next| {
-                let heights: Vec<f64> = com[f..next.min(n)]
-                    .iter()
-                    .flatten()
-                    .map(|c| up.height(c))
-                    .collect();
-                if heights.len() + 1 < next - f {
-                    return None;
-                }
-                let max = heights.iter().copied().reduce(f64::max)?;
-                let min = heights.iter().copied().reduce(f64::min)?;
-                Some(max - min)
-            });
-            steps.push(Step {
-                side: if side == 0 { "left" } else { "right" },
-                heel_strike_s: time(f),
-                toe_off_s: toe_off.map(time),
-                step_length_m: d.map(|d| dot(d, prog).abs()),
-                step_width_m: d.map(|d| dot(d, ml).abs()),
-                mos_ap_heel_strike_m: xcom_h(f)
-                    .zip(heel)
-                    .map(|(xi, h)| dot(h, prog) - dot(xi, prog)),
-                mos_ml_heel_strike_m: xcom_h(f).and_then(|xi| {
-                    // Outward: +ml (left of progression) for the left foot, -ml for the right.
-                    let out = if side == 0 { ml } else { [-ml[0], -ml[1]] };
-                    let border = (0..FOOT_STEMS.len())
-                        .filter_map(|k| foot.at(side, k, f))
-                        .map(|p| dot(up.horizontal(&p), out))
-                        .reduce(f64::max)?;
-                    Some(border - dot(xi, out))
-                }),
-                min_mos_ml_single_stance_m: min_ml,
-                com_vertical_excursion_m: excursion,
-            });
-        }
-    }
-    steps.sort_by(|a, b| a.heel_strike_s.total_cmp(&b.heel_strike_s));
-    out.steps = steps;
 }
