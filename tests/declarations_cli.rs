@@ -224,3 +224,32 @@ fn missing_landmarks_are_listed_at_once_and_unknown_keys_are_errors() {
         "{err}"
     );
 }
+
+/// A stature far from the body's (1.00 m given for the 1.68 m walker): the implausible
+/// figures (CoM at 0.93 of stature, thighs 1.7 times their usual share; Drillis & Contini 1966
+/// proportions) survive `-q` as one line, and the run still exits 0.
+#[test]
+fn implausible_figures_survive_quiet_as_one_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let o = gravline()
+        .arg("trial")
+        .arg(walk())
+        .args([
+            "--mass-kg",
+            "63",
+            "--height-m",
+            "1.0",
+            "--sex",
+            "female",
+            "-q",
+        ])
+        .arg("--no-plots")
+        .arg("--out")
+        .arg(dir.path())
+        .output()
+        .unwrap();
+    assert!(o.status.success());
+    let err = String::from_utf8_lossy(&o.stderr).to_string();
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(err.starts_with("walk: suspect: mean CoM height"), "{err}");
+}
