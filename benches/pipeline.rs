@@ -310,7 +310,8 @@ fn core_per_frame(path: &Path, setup: &Setup, reps: usize) -> Res<(f64, usize)> 
         }
         let dt = 1.0 / trial.rate_hz;
         let (velocity, _) = gravline::signal::derivative::of_series(&system, dt);
-        let (floor_m, _) = support::floor_m(&foot, trial.up_axis, &config.support);
+        let (floor, _) = support::floor_m(&foot, trial.up_axis, &config.support, trial.rate_hz);
+        let floor_m = floor.level_m;
         let omega0 = gravline::com::omega0(body.leg_length_m.unwrap_or(0.9));
         let up = trial.up_axis;
         let xcom: Vec<Option<[f64; 3]>> = system
@@ -327,7 +328,7 @@ fn core_per_frame(path: &Path, setup: &Setup, reps: usize) -> Res<(f64, usize)> 
             &system,
             &velocity,
             &xcom,
-            floor_m,
+            &floor,
             up,
             &trial.times_s,
             trial.rate_hz,

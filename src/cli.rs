@@ -309,7 +309,18 @@ impl Ui {
     }
 
     fn warnings(&self, trial: &str, warnings: &[String]) {
-        if self.quiet || warnings.is_empty() {
+        if self.quiet {
+            // Implausible figures survive -q, on one line.
+            let implausible: Vec<&str> = warnings
+                .iter()
+                .filter_map(|w| w.strip_prefix("plausibility: "))
+                .collect();
+            if !implausible.is_empty() {
+                eprintln!("{trial}: suspect: {}", implausible.join("; "));
+            }
+            return;
+        }
+        if warnings.is_empty() {
             return;
         }
         let shown = if self.verbose {
@@ -497,21 +508,43 @@ fn landmarks(a: &LandmarksArgs) -> Result<ExitCode> {
         return Ok(ExitCode::SUCCESS);
     };
     let labels = gravline::trial::read_labels(path)?;
-    println!("\n# [landmarks] template for {}: edit the labels on the right, delete lines you do not need.", path.display());
+    println!(
+        "\n# [landmarks] template for {}: live lines only where a label matches a landmark",
+        path.display()
+    );
+    println!(
+        "# exactly or up to case and separators; every other line is a guess to check (commented)."
+    );
     println!("[landmarks]");
     let names = vocabulary::all_names();
+    let fold = gravline::body::model::fold_label;
     for name in &names {
-        if labels.iter().any(|l| l == name) {
-            println!("# {name} = \"{name}\"   # found under its own name");
-        } else {
-            let guess = gravline::body::model::closest_labels(name, &labels, 1);
-            match guess.first() {
-                Some(g) => println!("{name} = \"{g}\"   # closest label; check it"),
-                None => println!("# {name} = \"\"   # not found"),
+        let same: Vec<&String> = labels.iter().filter(|l| fold(l) == fold(name)).collect();
+        match same.as_slice() {
+            [label] => println!("{name} = \"{label}\""),
+            [_, _, ..] => println!(
+                "# {name} = \"{}\"   # several labels match ({}); pick one",
+                same[0],
+                same.iter()
+                    .map(|s| s.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ),
+            [] => {
+                let guess = gravline::body::model::closest_labels(name, &labels, 1);
+                match guess.first() {
+                    Some(g) => {
+                        println!("# {name} = \"{g}\"   # guess (closest label), not checked")
+                    }
+                    None => println!("# {name} = \"\"   # not found"),
+                }
             }
         }
     }
-    let unused: Vec<&String> = labels.iter().filter(|l| !names.contains(l)).collect();
+    let unused: Vec<&String> = labels
+        .iter()
+        .filter(|l| !names.iter().any(|n| fold(n) == fold(l)))
+        .collect();
     if !unused.is_empty() {
         println!(
             "# labels of the file not in the vocabulary: {}",

@@ -329,6 +329,10 @@ pub enum XcomLength {
 pub struct Config {
     pub units: LengthUnit,
     pub up_axis: UpAxis,
+    /// Whether `[input] units` and `[input] up_axis` were written in the configuration (`false`:
+    /// the defaults, mm and +z, are assumed and the declaration check says what it detects).
+    #[serde(skip)]
+    pub declared: Declared,
     pub rate_hz: Option<f64>,
     /// Landmark name -> label in the file; landmarks not listed map to themselves.
     pub landmarks: BTreeMap<String, String>,
@@ -355,6 +359,13 @@ pub struct Config {
     pub plates: Vec<crate::plates::PlateSetup>,
     /// The trial's plate recording (`--plates`, the manifest's `plates` column).
     pub plates_file: Option<std::path::PathBuf>,
+}
+
+/// Which reading declarations the configuration wrote (the others are defaults).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Declared {
+    pub units: bool,
+    pub up_axis: bool,
 }
 
 /// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
@@ -570,6 +581,10 @@ impl Config {
         Ok(Config {
             units,
             up_axis,
+            declared: Declared {
+                units: raw.input.units.is_some(),
+                up_axis: raw.input.up_axis.is_some(),
+            },
             rate_hz: raw.input.rate_hz,
             landmarks: raw.landmarks.clone(),
             table: raw
@@ -647,6 +662,9 @@ pub struct Subject {
     pub leg_length_m: Option<f64>,
     pub asis_width_m: Option<f64>,
     pub marker_radius_m: Option<f64>,
+    /// Foot width (breadth across the metatarsal heads), for the sole outline of the BoS.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub foot_width_m: Option<f64>,
     pub knee_width_m: Option<f64>,
     pub ankle_width_m: Option<f64>,
     pub elbow_width_m: Option<f64>,
@@ -688,6 +706,7 @@ impl Subject {
             leg_length_m: None,
             asis_width_m: None,
             marker_radius_m: None,
+            foot_width_m: None,
             knee_width_m: None,
             ankle_width_m: None,
             elbow_width_m: None,
@@ -729,6 +748,7 @@ impl Subject {
             (self.leg_length_m, "leg_length_m"),
             (self.asis_width_m, "asis_width_m"),
             (self.marker_radius_m, "marker_radius_m"),
+            (self.foot_width_m, "foot_width_m"),
             (self.knee_width_m, "knee_width_m"),
             (self.ankle_width_m, "ankle_width_m"),
             (self.elbow_width_m, "elbow_width_m"),
@@ -811,10 +831,15 @@ mod tests {
     #[test]
     fn the_printed_default_parses_to_the_default() {
         let raw = RawConfig::from_toml(DEFAULT_CONFIG_TOML, "default").unwrap();
-        assert_eq!(
-            Config::from_raw(&raw, "default").unwrap(),
-            Config::default()
-        );
+        // The printed file writes the reading declarations; the empty configuration does not.
+        let default = Config {
+            declared: Declared {
+                units: true,
+                up_axis: true,
+            },
+            ..Config::default()
+        };
+        assert_eq!(Config::from_raw(&raw, "default").unwrap(), default);
     }
 
     #[test]

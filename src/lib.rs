@@ -32,6 +32,8 @@ pub mod anthropometry;
 pub mod batch;
 /// Landmarks, joint centers and segments.
 pub mod body;
+/// Declarations (units, up axis) checked against the data; implausible figures.
+pub mod checks;
 /// Segment CoMs, the weighted whole-body CoM, loads, groups, XCoM.
 pub mod com;
 /// Configuration and subject, validated once.

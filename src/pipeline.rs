@@ -24,6 +24,8 @@ pub enum PipelineError {
     Com(#[from] ComError),
     #[error("{file}: {source}")]
     Signal { file: String, source: SignalError },
+    #[error(transparent)]
+    Declaration(#[from] crate::checks::DeclarationError),
 }
 
 /// Options of one run that are not part of the configuration.
@@ -87,6 +89,10 @@ pub struct TrialResult {
     pub warnings: Vec<Warning>,
     /// The movement and its figures (gait, jump, repetitions, sway).
     pub movement: crate::movement::MovementFigures,
+    /// Median thigh and shank lengths (m), for the plausibility check.
+    pub segment_lengths_m: Vec<(String, f64)>,
+    /// The foot points per frame, for the BoS at any frame ([`support::stage::bos_at`]).
+    pub feet: support::FootFrames,
 }
 
 impl TrialResult {
@@ -129,8 +135,12 @@ pub fn run_trial_with_plates(
     plates: Option<&crate::plates::PlateRecording>,
 ) -> Result<TrialResult, PipelineError> {
     let models = Models::resolve(trial, config, subject, table)?;
+    let tracks = &trial.markers.tracks;
+    let found = declarations(&models, trial, config, subject, |i, f| {
+        tracks.get(i)?.get(f).copied().flatten()
+    })?;
     let (markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
-    let (result, _markers) = run_filled(
+    let (mut result, _markers) = run_filled(
         trial,
         models,
         markers,
@@ -143,7 +153,30 @@ pub fn run_trial_with_plates(
         true,
         plates,
     )?;
+    result.warnings.splice(0..0, found);
     Ok(result)
+}
+
+/// The declaration check (units, up axis) before any computation: an error naming the fix, or
+/// what was detected where nothing was declared.
+fn declarations(
+    models: &Models,
+    trial: &Trial,
+    config: &Config,
+    subject: &Subject,
+    marker: impl Fn(usize, usize) -> Option<[f64; 3]>,
+) -> Result<Vec<Warning>, PipelineError> {
+    let detected = crate::checks::detect(
+        &models.body,
+        trial.n_frames(),
+        marker,
+        config.up_axis,
+        subject.height_m,
+    );
+    Ok(match detected {
+        Some(d) => crate::checks::check(&d, config, subject.height_m, &trial.file)?,
+        None => Vec::new(),
+    })
 }
 
 /// [`run_trial`] on a trial read in the flat layout: each raw track is filled in place and
@@ -160,6 +193,10 @@ fn run_flat_trial(
 ) -> Result<(TrialResult, signal::Markers), PipelineError> {
     let crate::trial::FlatTrial { trial, tracks } = flat;
     let models = Models::resolve(&trial, config, subject, table)?;
+    let found = declarations(&models, &trial, config, subject, |i, f| {
+        let p = *tracks.get(i)?.get(f)?;
+        (!p.iter().any(|v| v.is_nan())).then_some(p)
+    })?;
     let filter = low_pass_design(&trial, config)?;
     let (markers, gaps) = signal::gapfill::fill_flat(
         trial.markers.labels.clone(),
@@ -169,9 +206,11 @@ fn run_flat_trial(
         filter.as_ref().map(|(c, pad)| (c, *pad)),
         threads,
     );
-    run_filled(
+    let (mut result, markers) = run_filled(
         &trial, models, markers, gaps, config, subject, table, options, threads, false, plates,
-    )
+    )?;
+    result.warnings.splice(0..0, found);
+    Ok((result, markers))
 }
 
 /// The low-pass section and its end pad, when the configuration asks for one.
@@ -368,6 +407,9 @@ fn run_filled(
             );
         }
     });
+    let segment_lengths_m = crate::checks::segment_lengths_m(&models.body, n, |f| {
+        markers.tracks.iter().map(|t| t.at(f)).collect()
+    });
     let Models {
         body,
         com: com_model,
@@ -389,7 +431,7 @@ fn run_filled(
     // The floor found on another thread, the derivatives on this one.
     let (floor, (velocity, acceleration)) = signal::both(
         threads,
-        || support::floor_m(&foot, trial.up_axis, &config.support),
+        || support::floor_m(&foot, trial.up_axis, &config.support, trial.rate_hz),
         || signal::derivative::of_series(&system, dt),
     );
 
@@ -404,8 +446,9 @@ fn run_filled(
         });
     }
     let omega0 = xcom_length_m.map(com::omega0);
-    let (floor_m, floor_warning) = floor;
+    let (floor, floor_warning) = floor;
     warnings.extend(floor_warning);
+    let floor_m = floor.level_m;
     let spread = config.spread.then(|| {
         let s = com::spread::compute(&markers, &trial.file, config, subject);
         warnings.extend(s.warnings(&system, trial.up_axis));
@@ -429,7 +472,7 @@ fn run_filled(
                 com,
                 velocity,
                 xcom,
-                floor_m,
+                &floor,
                 up,
                 &trial.times_s,
                 trial.rate_hz,
@@ -526,8 +569,10 @@ fn run_filled(
         model,
         warnings,
         movement: Default::default(),
+        segment_lengths_m,
+        feet: foot,
     };
-    result.movement = crate::movement::analyse(&result, config.movement, &foot);
+    result.movement = crate::movement::analyse(&result, config.movement, &result.feet);
     result.warnings.extend(crate::movement::unused_load_warning(
         labels,
         !result.load_names.is_empty(),

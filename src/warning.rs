@@ -24,6 +24,8 @@ pub enum Warning {
     Plausibility { message: String },
     /// A figure smaller than the spread of the CoM between models (`--spread`).
     ModelSpread { message: String },
+    /// A reading declaration left to its default, and what the data showed.
+    Detected { what: String },
 }
 
 impl fmt::Display for Warning {
@@ -43,6 +45,7 @@ impl fmt::Display for Warning {
             ),
             Warning::Plausibility { message } => write!(f, "plausibility: {message}"),
             Warning::ModelSpread { message } => write!(f, "spread between models: {message}"),
+            Warning::Detected { what } => write!(f, "detected: {what}"),
         }
     }
 }

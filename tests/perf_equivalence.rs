@@ -319,7 +319,7 @@ fn support_stage_gives_the_same_series_on_any_number_of_threads() {
         foot.push(&points);
     }
     let (velocity, _) = gravline::signal::derivative::of_series(&system, 1.0 / trial.rate_hz);
-    let (floor, _) = floor_m(&foot, trial.up_axis, &config.support);
+    let (floor, _) = floor_m(&foot, trial.up_axis, &config.support, trial.rate_hz);
     // The CoM stands in for the XCoM: any series of points serves the comparison.
     let run = |threads: usize| {
         let s = analyse_on(
@@ -327,7 +327,7 @@ fn support_stage_gives_the_same_series_on_any_number_of_threads() {
             &system,
             &velocity,
             &system,
-            floor,
+            &floor,
             trial.up_axis,
             &trial.times_s,
             trial.rate_hz,

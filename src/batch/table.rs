@@ -315,6 +315,13 @@ fn named_cells(
         ("condition", Cell::text(key.condition)),
         ("status", Cell::text(Some(status))),
         ("error", Cell::text(error)),
+        (
+            "suspect",
+            i(&|s| {
+                let implausible = s.warnings.iter().any(|w| w.starts_with("plausibility: "));
+                Some(i64::from(implausible))
+            }),
+        ),
         ("frames", i(&|s| s.frames)),
         ("duration_s", f(&|s| s.duration_s)),
         ("rate_hz", f(&|s| s.rate_hz)),
@@ -545,6 +552,12 @@ impl Row {
 
     pub fn is_ok(&self) -> bool {
         self.get("status").and_then(Cell::as_str) == Some(STATUS_OK)
+    }
+
+    /// Whether the trial showed a figure no person produces (`suspect` = 1): left out of the
+    /// group statistics.
+    pub fn is_suspect(&self) -> bool {
+        self.get("suspect").and_then(Cell::as_i64) == Some(1)
     }
 }
 
@@ -795,7 +808,7 @@ pub struct GroupStat {
 /// `by` of the groups of one subject in one condition (`group` = `subject / condition`).
 pub const SUBJECT_X_CONDITION: &str = "subject_condition";
 
-/// Mean and sample SD of [`GROUP_FIGURES`] over the ok rows of each subject, then of each
+/// Mean and sample SD of [`GROUP_FIGURES`] over the ok rows (not suspect) of each subject, then of each
 /// condition, then of each subject in each condition; groups in order of first appearance in
 /// the table, rows without a subject (or condition) left out of that grouping.
 pub fn groups(rows: &[Row]) -> Vec<GroupStat> {
@@ -804,7 +817,7 @@ pub fn groups(rows: &[Row]) -> Vec<GroupStat> {
     for by in ["subject", "condition", SUBJECT_X_CONDITION] {
         let mut order: Vec<String> = Vec::new();
         let mut members: HashMap<String, Vec<&Row>> = HashMap::new();
-        for row in rows.iter().filter(|r| r.is_ok()) {
+        for row in rows.iter().filter(|r| r.is_ok() && !r.is_suspect()) {
             let key = if by == SUBJECT_X_CONDITION {
                 text(row, "subject")
                     .zip(text(row, "condition"))

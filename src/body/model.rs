@@ -120,6 +120,14 @@ pub enum LandmarkError {
         what: String,
         hint: String,
     },
+    #[error("[landmarks] `{key}` is not a landmark of the vocabulary (closest: `{closest}`); `gravline landmarks` lists them")]
+    UnknownKey { key: String, closest: String },
+    #[error("{file}: landmarks not found: {landmarks}; `gravline landmarks {file}` prints a [landmarks] template for its labels (first: {first})")]
+    ManyMissing {
+        file: String,
+        landmarks: String,
+        first: String,
+    },
     #[error("[virtual] `{landmark}` refers to itself through {chain}; break the cycle")]
     Cycle { landmark: String, chain: String },
     #[error("[model] endpoints: segment `{segment}` has no row `{key}` in table {table}; rows are {rows}")]
@@ -142,6 +150,9 @@ pub struct BodyModel {
     pub body_mass_kg: f64,
     /// Leg length used by the hip regressions and (by default) the XCoM, metres.
     pub leg_length_m: Option<f64>,
+    /// The subject's marker radius and foot width, metres, for the floor and the sole outline.
+    pub marker_radius_m: Option<f64>,
+    pub foot_width_m: Option<f64>,
     /// Optional points found for other stages (foot markers, load landmarks).
     optional: HashMap<String, PointId>,
     /// Marker indices (into the trial's labels) the model reads.
@@ -166,6 +177,16 @@ impl BodyModel {
         table: &SegmentTable,
         optional: &[&str],
     ) -> Result<BodyModel, LandmarkError> {
+        let names = vocabulary::all_names();
+        for key in config.landmarks.keys() {
+            if !names.iter().any(|n| fold_label(n) == fold_label(key)) {
+                let closest = closest_labels(key, &names, 1);
+                return Err(LandmarkError::UnknownKey {
+                    key: key.clone(),
+                    closest: closest.first().cloned().unwrap_or_default(),
+                });
+            }
+        }
         let kinds = table.body_segments();
         BodyModel::build_segments(labels, file, config, subject, table, optional, &kinds)
     }
@@ -184,6 +205,7 @@ impl BodyModel {
         let mut r = Resolver::new(labels, file, config, subject);
         r.thorax_shoulder = table.has_frames();
         let mut segments = Vec::new();
+        let mut missing: Vec<LandmarkError> = Vec::new();
         let trunk_parts = config
             .endpoints
             .get(&SegmentKind::Trunk)
@@ -242,8 +264,15 @@ impl BodyModel {
                 let full = |stem: &str| side.map_or(stem.to_string(), |s| s.name(stem));
                 let origin_name = full(&row.origin);
                 let other_name = full(&row.other);
-                let origin = r.resolve(&origin_name)?;
-                let other = r.resolve(&other_name)?;
+                let (origin, other) = match (r.resolve(&origin_name), r.resolve(&other_name)) {
+                    (Ok(a), Ok(b)) => (a, b),
+                    (a, b) => {
+                        for e in [a.err(), b.err()].into_iter().flatten() {
+                            missing.push(e);
+                        }
+                        continue;
+                    }
+                };
                 let frame = match row.com_frame {
                     Some(offset) => {
                         Some(r.frame_com(&full(kind.name()), kind, side, origin, other, offset)?)
@@ -266,6 +295,28 @@ impl BodyModel {
                     com_fraction: row.com_fraction,
                     row_key: row.key(),
                     frame,
+                });
+            }
+        }
+        match missing.len() {
+            0 => {}
+            1 => return Err(missing.remove(0)),
+            _ => {
+                let mut names: Vec<String> = Vec::new();
+                for e in &missing {
+                    let n = match e {
+                        LandmarkError::Missing { landmark, .. }
+                        | LandmarkError::NeedsMeasurement { landmark, .. } => landmark.clone(),
+                        other => other.to_string(),
+                    };
+                    if !names.contains(&n) {
+                        names.push(n);
+                    }
+                }
+                return Err(LandmarkError::ManyMissing {
+                    file: file.to_string(),
+                    landmarks: names.join(", "),
+                    first: missing.remove(0).to_string(),
                 });
             }
         }
@@ -309,6 +360,8 @@ impl BodyModel {
             segments,
             body_mass_kg: subject.mass_kg,
             leg_length_m: subject.leg_length_m,
+            marker_radius_m: subject.marker_radius_m,
+            foot_width_m: subject.foot_width_m,
             optional: found,
             markers_used,
             warnings,
@@ -321,6 +374,20 @@ impl BodyModel {
             .get(name)
             .copied()
             .or_else(|| self.point_names.iter().position(|n| n == name))
+    }
+
+    /// The trial marker index of a point that is a marker of the trial (not virtual, not
+    /// derived): the points the floor, the contact height test and the declaration check trust.
+    pub fn marker_index(&self, name: &str) -> Option<usize> {
+        match self.defs.get(self.point(name)?) {
+            Some(Def::Marker(i)) => Some(*i),
+            _ => None,
+        }
+    }
+
+    /// Whether a point of the model is a marker of the trial (see [`BodyModel::marker_index`]).
+    pub fn is_marker(&self, id: PointId) -> bool {
+        matches!(self.defs.get(id), Some(Def::Marker(_)))
     }
 
     /// Whether the hip regressions need a measured leg length (none was given).
@@ -499,6 +566,10 @@ fn de_leva_arm_lengths_m(sex: Sex) -> [f64; 5] {
 /// Builds point definitions on demand, in dependency order.
 pub(super) struct Resolver<'a> {
     labels: HashMap<&'a str, usize>,
+    /// Labels folded by [`fold_label`] (a fold shared by two labels is left out: ambiguous).
+    folded: HashMap<String, Option<usize>>,
+    /// The `[landmarks]` map with folded keys.
+    map: HashMap<String, &'a str>,
     all_labels: &'a [String],
     file: &'a str,
     config: &'a Config,
@@ -519,6 +590,20 @@ impl<'a> Resolver<'a> {
                 .iter()
                 .enumerate()
                 .map(|(i, l)| (l.as_str(), i))
+                .collect(),
+            folded: {
+                let mut m: HashMap<String, Option<usize>> = HashMap::new();
+                for (i, l) in labels.iter().enumerate() {
+                    m.entry(fold_label(l))
+                        .and_modify(|v| *v = None)
+                        .or_insert(Some(i));
+                }
+                m
+            },
+            map: config
+                .landmarks
+                .iter()
+                .map(|(k, v)| (fold_label(k), v.as_str()))
                 .collect(),
             all_labels: labels,
             file,
@@ -544,11 +629,19 @@ impl<'a> Resolver<'a> {
 
     /// The label a landmark is looked up under: the `[landmarks]` map, else its own name.
     fn label_of<'b>(&'b self, name: &'b str) -> &'b str {
-        self.config.landmarks.get(name).map_or(name, String::as_str)
+        match self.config.landmarks.get(name) {
+            Some(label) => label,
+            None => self.map.get(&fold_label(name)).copied().unwrap_or(name),
+        }
     }
 
+    /// The column of a landmark: its label exactly, else up to case and separators.
     fn label_index(&self, name: &str) -> Option<usize> {
-        self.labels.get(self.label_of(name)).copied()
+        let label = self.label_of(name);
+        self.labels
+            .get(label)
+            .copied()
+            .or_else(|| self.folded.get(&fold_label(label)).copied().flatten())
     }
 
     fn push(&mut self, name: &str, def: Def) -> PointId {
@@ -976,6 +1069,16 @@ fn other(side: Side) -> Side {
     }
 }
 
+/// A label folded for matching: lower case, letters and digits only (`L.KNEE.LAT`, `l-knee-lat`
+/// and `l_knee_lat` all fold to `lkneelat`).
+pub fn fold_label(label: &str) -> String {
+    label
+        .chars()
+        .filter(|c| c.is_alphanumeric())
+        .flat_map(char::to_lowercase)
+        .collect()
+}
+
 /// Up to `n` labels closest to `target` by edit distance (ties in file order).
 pub fn closest_labels(target: &str, labels: &[String], n: usize) -> Vec<String> {
     let mut scored: Vec<(usize, usize, &String)> = labels
@@ -1068,6 +1171,8 @@ mod tests {
             segments: Vec::new(),
             body_mass_kg: 70.0,
             leg_length_m,
+            marker_radius_m: None,
+            foot_width_m: None,
             optional: HashMap::new(),
             markers_used: Vec::new(),
             warnings: Vec::new(),
@@ -1117,13 +1222,13 @@ mod tests {
 
     #[test]
     fn a_mapped_label_that_is_absent_is_reported_with_closest_labels() {
-        let labels: Vec<String> = vec!["LKNE".into(), "RKNE".into()];
-        let cfg = config("[landmarks]\nl_knee_lat = \"LKNEE\"\n");
+        let labels: Vec<String> = vec!["KneeOutL".into(), "KneeOutR".into()];
+        let cfg = config("[landmarks]\nl_knee_lat = \"KneeOutLeft\"\n");
         let subject = Subject::new(70.0, 1.7, Sex::Male);
         let mut r = Resolver::new(&labels, "t.csv", &cfg, &subject);
         let e = r.resolve("l_knee_lat").unwrap_err().to_string();
         assert!(
-            e.contains("`LKNEE`") && e.contains("closest labels: LKNE"),
+            e.contains("`KneeOutLeft`") && e.contains("closest labels: KneeOutL"),
             "{e}"
         );
     }

@@ -44,7 +44,10 @@ pub struct ComFigures {
 /// BoS figures of a trial.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct SupportFigures {
+    /// Floor surface height under the mean CoM position, metres.
     pub floor_m: f64,
+    /// The floor model: level, slope, tilt (deg), plane residual (mm), rise under the feet (mm).
+    pub floor: crate::support::floor::FloorModel,
     pub progression: Option<[f64; 2]>,
     pub min_bos_margin_m: Option<f64>,
     pub mean_bos_margin_m: Option<f64>,
@@ -185,6 +188,7 @@ impl Summary {
         let mos = || s.mos_m.iter().flatten().copied();
         let support = SupportFigures {
             floor_m: s.floor_m,
+            floor: s.floor.clone(),
             progression: s.progression,
             min_bos_margin_m: min(margins()),
             mean_bos_margin_m: mean(margins()),
@@ -223,18 +227,14 @@ impl Summary {
                 reps: l.reps.clone(),
             }
         });
-        let mut warnings = r.warnings.clone();
-        if let Some(f) = com.mean_height_of_stature {
-            // reference/methods.md 6: standing CoM about 0.55-0.57 of stature; a mean far outside
-            // a wide band usually means wrong units, axes or mapping.
-            if !(0.35..=0.75).contains(&f) {
-                warnings.push(Warning::Plausibility {
-                    message: format!(
-                        "mean CoM height is {f:.2} of stature (expected about 0.55 when upright): check units, up_axis and the landmark map"
-                    ),
-                });
-            }
-        }
+        // Implausible figures first, so that a short listing (and `-q`) still shows them.
+        let mut warnings = crate::checks::implausible(
+            com.mean_height_of_stature,
+            com.max_speed_m_s,
+            &r.segment_lengths_m,
+            subject.height_m,
+        );
+        warnings.extend(r.warnings.iter().cloned());
         Summary {
             trial: r.name.clone(),
             frames: r.n_frames(),

@@ -27,6 +27,12 @@
 //! definition 7, the default of numpy's `percentile`); DESIGN.md 7 takes the 2nd percentile of
 //! the foot-marker heights.
 
+use super::floor::FloorModel;
+use super::foot::{FootPoint, Region};
+use super::stage::FootFrames;
+use crate::signal::derivative;
+use crate::trial::UpAxis;
+
 /// Thresholds of [`detect_contact`]; see the module doc for the sources of the defaults.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct ContactThresholds {
@@ -206,6 +212,72 @@ fn lowest_at_least(x: Vec<f64>, k: usize) -> Vec<f64> {
     } else {
         x
     }
+}
+
+/// Contact of one region of one foot, frame by frame (module doc): slow first, then low.
+///
+/// Speed: the slowest of the region's markers; height: the lowest of the region's markers above
+/// the local floor, each minus its own stance height ([`FloorModel::stance_height_m`]). Only
+/// markers of the trial count (never virtual or derived points). A contact begins below
+/// `t.speed_m_s` ([`detect_contact`]); when `off_speed_m_s` is higher, it lasts while the region
+/// stays slower than that (hysteresis: without a toe marker, the metatarsal heads rise and
+/// speed up while the toes are still down).
+#[allow(clippy::too_many_arguments)]
+pub(super) fn region_contact(
+    foot: &FootFrames,
+    side: usize,
+    region: Region,
+    n: usize,
+    floor: &FloorModel,
+    up: UpAxis,
+    rate_hz: f64,
+    t: &ContactThresholds,
+    off_speed_m_s: f64,
+) -> Vec<bool> {
+    let dt = 1.0 / rate_hz;
+    let mut height = vec![None; n];
+    let mut speed: Vec<Option<f64>> = vec![None; n];
+    let mut velocity = Vec::new();
+    let mut any = false;
+    for point in FootPoint::ALL.into_iter().filter(|p| p.region() == region) {
+        let k = point.index();
+        if !foot.is_marker(side, k) {
+            continue;
+        }
+        let Some(stance) = floor.stance_height_m[side][k] else {
+            continue;
+        };
+        any = true;
+        let series = &foot.points[side][k];
+        for (f, p) in series.iter().enumerate() {
+            if let (Some(p), Some(slot)) = (p, height.get_mut(f)) {
+                let h = floor.height_of(p, up) - stance;
+                *slot = Some(slot.map_or(h, |m: f64| m.min(h)));
+            }
+        }
+        derivative::velocity_into(series, dt, &mut velocity);
+        for (f, v) in velocity.iter().enumerate() {
+            if let (Some(v), Some(slot)) = (v, speed.get_mut(f)) {
+                let s = (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+                *slot = Some(slot.map_or(s, |m: f64| m.min(s)));
+            }
+        }
+    }
+    if !any {
+        return vec![false; n];
+    }
+    let mut contact = detect_contact(&height, &speed, rate_hz, t);
+    if off_speed_m_s <= t.speed_m_s {
+        return contact;
+    }
+    for (_, off) in transitions(&contact) {
+        let mut f = off;
+        while f < n && !contact[f] && speed[f].is_some_and(|v| v < off_speed_m_s) {
+            contact[f] = true;
+            f += 1;
+        }
+    }
+    contact
 }
 
 #[cfg(test)]

@@ -10,14 +10,25 @@
 //! - [`hull`]: 2D convex hull, Andrew's monotone chain (Andrew 1979).
 //! - [`margin`]: signed distance to the hull, directional (AP / ML) margins and the temporal
 //!   margin τ, for the MoS of Hof et al. 2005.
-//! - [`contact`]: per-frame foot contact from height and speed thresholds (Ghoussayni 2004
-//!   speed threshold), the floor level, contact runs.
+//! - [`contact`]: per-frame contact from height and speed thresholds (Ghoussayni 2004 speed
+//!   threshold), per foot region, contact runs.
+//! - [`floor`]: the floor surface fitted to the feet's stance samples (robust plane and cells).
+//! - [`foot`]: the closed set of foot points and regions.
+//! - [`sole`]: sole outlines from the foot markers and the subject; [`bos`]: the BoS of a frame
+//!   from the sole parts in contact, and its margins.
+//! - [`progression`], [`steps`]: direction of progression; gait events and per-step figures.
 //! - [`events`]: heel strikes and toe-offs by the coordinate method of Zeni et al. 2008.
 
+pub mod bos;
 pub mod contact;
 pub mod events;
+pub mod floor;
+pub mod foot;
 pub mod hull;
 pub mod margin;
+pub mod progression;
+pub mod sole;
+pub mod steps;
 
 pub use contact::{detect_contact, floor_level, percentile, transitions, ContactThresholds};
 pub use events::{

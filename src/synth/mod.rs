@@ -33,6 +33,7 @@
 
 mod csv_out;
 pub mod demo;
+pub mod floor;
 mod geom;
 mod jump;
 mod model;
