@@ -41,8 +41,9 @@ fn standing_com_height_and_projection_are_those_of_a_person() {
         gravline::trial::read_trial(&dir.join("trial.csv"), &setup.config.read_options()).unwrap();
     let mean_x = |label: &str| {
         let i = trial.markers.index_of(label).unwrap();
-        let xs: Vec<f64> = trial.markers.tracks[i]
-            .iter()
+        let xs: Vec<f64> = trial
+            .markers
+            .points(i)
             .flatten()
             .map(|p| p[0])
             .collect();
