@@ -546,4 +546,62 @@ mod tests {
         }
         assert!(!in_pieces(frames.as_bytes(), &opts, 2).1);
     }
+
+    /// Random edits of small files (bytes and tokens of the format, carriage returns among
+    /// them) read the same through the parallel rows, cut into pieces of a byte and more on 1
+    /// to 4 threads, and through the general row loop.
+    #[test]
+    fn parallel_rows_agree_with_the_general_loop_on_mutated_files() {
+        const BYTES: &[u8] = b",;\t\n\r#\". -e_xX\x00\xff 1";
+        const TOKENS: &[&str] = &[
+            "NaN", "inf", "1e3", ",", "\n", "\r\n", "\r", "-0", "\"", "  ", "0.01", "+2", "1.",
+            "2,5", "\r\r\n", "# c\r",
+        ];
+        let bases = [
+            "# c\ntime,a_x,a_y,a_z,n,b_x,b_y,b_z\n0,1,2,3,x,4,5,6\n0.01,1.5,,3,,4,5,6\n\
+             0.02,1,2,3,y,4,5,6\n0.03,1,2,3,,4,5,6\n",
+            "frame,a_x,a_y,a_z\n1,1,2,3\n2,1,2,3\n3,1,2,3\n4,1,2,3\n",
+            "time;a_x;a_y;a_z\n0,00;1,5;2;3\n0,01;1;2;3\n0,02;1;2;3\n",
+            "Time,a,,\n,X,Y,Z\n0,1,2,3\n0.01,1,2,3\n0.02,1,2,3\n",
+        ];
+        // xorshift64 (Marsaglia 2003).
+        let mut state = 0x9e37_79b9_7f4a_7c15u64;
+        let mut below = |n: usize| {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            (state % n.max(1) as u64) as usize
+        };
+        let opts = ReadOptions::default();
+        let rated = ReadOptions {
+            rate_hz: Some(100.0),
+            ..ReadOptions::default()
+        };
+        let mut fast_reads = 0;
+        for case in 0..4000 {
+            let mut v = bases[case % bases.len()].as_bytes().to_vec();
+            for _ in 0..1 + below(3) {
+                let at = below(v.len() + 1);
+                match below(4) {
+                    0 if at < v.len() => v[at] = BYTES[below(BYTES.len())],
+                    1 if at < v.len() => {
+                        v.remove(at);
+                    }
+                    2 => {
+                        let token = TOKENS[below(TOKENS.len())].as_bytes();
+                        v.splice(at..at, token.iter().copied());
+                    }
+                    _ => v.truncate(at),
+                }
+            }
+            let o = if case % 3 == 1 { &rated } else { &opts };
+            let want = general(&v, o);
+            for threads in 1..=4 {
+                let (got, fast) = in_pieces(&v, o, threads);
+                assert_eq!(got, want, "case {case}: {:?}", String::from_utf8_lossy(&v));
+                fast_reads += usize::from(fast);
+            }
+        }
+        assert!(fast_reads > 1000, "{fast_reads} parallel reads");
+    }
 }

@@ -848,3 +848,192 @@ fn random_mutations_never_panic() {
     // Both outcomes occur, so the mutations reach past the header.
     assert!(ok > 100 && err > 100, "ok {ok}, err {err}");
 }
+
+// --- lab exports -----------------------------------------------------------------------------
+
+/// Labels, times, rate, warnings and every sample equal (`f64` to the bit: a decimal comma
+/// reads as the same number as a decimal point).
+fn assert_same_trial(got: &Trial, want: &Trial) {
+    assert_eq!(got.markers, want.markers);
+    assert_eq!(got.times_s, want.times_s);
+    assert_eq!(got.rate_hz, want.rate_hz);
+    assert_eq!(got.warnings, want.warnings);
+    for m in 0..want.markers.n_markers() {
+        let bits = |t: &Trial| -> Vec<Option<[u64; 3]>> {
+            t.markers
+                .points(m)
+                .map(|p| p.map(|p| p.map(f64::to_bits)))
+                .collect()
+        };
+        assert_eq!(bits(got), bits(want), "marker {m}");
+    }
+}
+
+#[test]
+fn semicolon_separated_with_decimal_commas() {
+    let want = read_trial(&fixture("trial_wide_mm.csv"), &mm()).expect("wide reads");
+    let got = read_trial(&fixture("lab_semicolon_decimal_comma.csv"), &mm()).expect("reads");
+    assert_same_trial(&got, &want);
+    // A bad cell still names its line and column.
+    let text = "time;a_x;a_y;a_z\n0,00;1,5;2;3\n0,01;1,5;x;3\n";
+    let e = error_of(text.as_bytes(), &mm());
+    assert_message(&e, &["bad.csv line 3, column 3 (`a_y`)", "`x` is not a number"]);
+}
+
+#[test]
+fn tab_separated() {
+    let want = read_trial(&fixture("trial_wide_mm.csv"), &mm()).expect("wide reads");
+    let got = read_trial(&fixture("lab_tab.csv"), &mm()).expect("reads");
+    assert_same_trial(&got, &want);
+}
+
+#[test]
+fn marker_names_over_a_row_of_axes() {
+    let want = read_trial(&fixture("trial_wide_mm.csv"), &mm()).expect("wide reads");
+    let path = fixture("lab_two_row_header.csv");
+    let got = read_trial(&path, &mm()).expect("reads");
+    assert_same_trial(&got, &want);
+    assert_eq!(read_labels(&path).unwrap(), ["l_asis", "r_asis", "r_heel"]);
+    // Data lines keep their numbers in messages: line 7 is the third data row.
+    let text = std::fs::read_to_string(&path)
+        .unwrap()
+        .replace("NaN", "bad");
+    let e = error_of(text.as_bytes(), &mm());
+    assert_message(&e, &["bad.csv line 7, column 9 (`r_heel_x`)", "`bad`"]);
+}
+
+#[test]
+fn dropped_frames_are_gaps_when_the_configuration_says_so() {
+    let path = fixture("lab_dropped_frames.csv");
+    let rated = with_rate(100.0);
+    // By default a dropped frame is an uneven rate, named at the row after the drop.
+    let e = read_trial(&path, &rated).expect_err("frame 3 is missing");
+    assert!(
+        matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(6),
+        "{e}"
+    );
+    let toml = "[input]\nrate_hz = 100.0\nmissing_frames = \"gap\"\n";
+    let raw = gravline::config::RawConfig::from_toml(toml, "gap.toml").unwrap();
+    let config = gravline::config::Config::from_raw(&raw, "gap.toml").unwrap();
+    let trial = read_trial(&path, &config.read_options()).expect("reads with gaps");
+    assert_eq!(trial.n_frames(), 9);
+    let expected_times: Vec<f64> = (1..=9).map(|f| f as f64 / 100.0).collect();
+    assert_eq!(trial.times_s, expected_times);
+    assert_abs_diff_eq!(trial.rate_hz, 100.0, epsilon = 1e-9);
+    let seen: Vec<bool> = trial.markers.points(0).map(|p| p.is_some()).collect();
+    assert_eq!(
+        seen,
+        [true, true, false, true, true, false, false, true, true]
+    );
+    assert_point(&trial, "a", 3, [0.013, 0.020, 0.030]);
+    assert!(trial
+        .warnings
+        .iter()
+        .any(|w| w.to_string().contains("3 dropped frame(s)")));
+    // An unknown word is refused with the allowed ones.
+    let raw = gravline::config::RawConfig::from_toml("[input]\nmissing_frames = \"skip\"\n", "x")
+        .unwrap();
+    let e = gravline::config::Config::from_raw(&raw, "x.toml").unwrap_err();
+    assert!(e.to_string().contains("use \"error\" or \"gap\""), "{e}");
+}
+
+// --- one reader: stray carriage returns, every entry point ----------------------------------
+
+/// The trial or the error message read from `bytes` through every entry point: a file
+/// (`read_trial`), a reader (`read_trial_from`) and bytes in memory on 1 and 4 threads; all
+/// must agree. Named `t.csv` everywhere.
+fn read_everywhere(bytes: &[u8]) -> Result<Trial, String> {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("t.csv");
+    std::fs::write(&path, bytes).unwrap();
+    let shown_path = path.display().to_string();
+    let from_file = read_trial(&path, &mm())
+        .map(|mut t| {
+            t.file = "t.csv".into();
+            t
+        })
+        .map_err(|e| e.to_string().replace(&shown_path, "t.csv"));
+    let name = |r: Result<Trial, TrialError>| r.map_err(|e| e.to_string());
+    let from_reader = name(read_trial_from(bytes, "t.csv", "t", &mm()));
+    for (what, got) in [
+        ("file", from_file),
+        (
+            "bytes, 1 thread",
+            name(gravline::trial::read_trial_bytes(bytes, "t.csv", "t", &mm(), 1)),
+        ),
+        (
+            "bytes, 4 threads",
+            name(gravline::trial::read_trial_bytes(bytes, "t.csv", "t", &mm(), 4)),
+        ),
+    ] {
+        assert_eq!(got, from_reader, "{what}: {:?}", String::from_utf8_lossy(bytes));
+    }
+    from_reader
+}
+
+#[test]
+fn a_stray_carriage_return_after_the_header_loses_no_row() {
+    // The header ends in `\r` and `t` follows on the same line: a located one-line error.
+    let e = read_everywhere(b"time,a_x,a_y,a_z\rt\n0,,,").unwrap_err();
+    assert!(e.starts_with("t.csv line 1: expected 4 fields"), "{e}");
+    // The bundled walk with its header line ended by `\r` instead of `\n`: all 600 frames.
+    let walk = std::fs::read(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/data/walk.csv"),
+    )
+    .unwrap();
+    let want = read_everywhere(&walk).unwrap();
+    assert_eq!(want.n_frames(), 600);
+    let header_end = walk
+        .windows(6)
+        .position(|w| w == b"\ntime,")
+        .map(|p| p + 1 + walk[p + 1..].iter().position(|&b| b == b'\n').unwrap())
+        .unwrap();
+    let mut edited = walk.clone();
+    edited[header_end] = b'\r';
+    let got = read_everywhere(&edited).unwrap();
+    assert_eq!(got.n_frames(), 600);
+    assert_eq!(got.markers, want.markers);
+    assert_eq!(got.times_s, want.times_s);
+}
+
+#[test]
+fn every_entry_point_reads_the_same_with_mixed_carriage_returns() {
+    let base = "# comment\ntime,a_x,a_y,a_z,b_x,b_y,b_z\n0,1,2,3,4,5,6\n0.01,1,2,,4,5,6\n\
+                0.02,1,2,3,4,5,6\n0.03,1,2,3,4,5,6\n";
+    let cases = [
+        base.to_string(),
+        base.replace("# comment\n", "# comment\r"),
+        base.replace("# comment\n", "# com\rment\r\n"),
+        base.replace("b_z\n", "b_z\r"),
+        base.replace("b_z\n", "b_z\r\r\n"),
+        base.replace("b_z\n", "b_z\r\n\r"),
+        base.replace("b_x,", "b_x\r,"),
+        base.replace("0.02,", "\r0.02,"),
+        base.replace("6\n0.03", "6\r0.03"),
+        base.replace('\n', "\r"),
+        base.replace('\n', "\r\n"),
+        format!("\r\n{base}"),
+        format!("\r{base}"),
+        base.replace("time", "\"time\r\""),
+    ];
+    let mut read = 0;
+    for case in &cases {
+        read += usize::from(read_everywhere(case.as_bytes()).is_ok());
+    }
+    assert!(read >= 8, "{read} of {} cases read", cases.len());
+    // A long file cut into pieces on 4 threads, its header line ended by `\r`.
+    let mut long = Vec::new();
+    gravline::synth::write_wide_csv(
+        &gravline::synth::long_trial(3_000, 45, 7),
+        "long walk",
+        &mut long,
+    )
+    .unwrap();
+    let at = long
+        .windows(6)
+        .position(|w| w == b"\ntime,")
+        .map(|p| p + 1 + long[p + 1..].iter().position(|&b| b == b'\n').unwrap())
+        .unwrap();
+    long[at] = b'\r';
+    assert_eq!(read_everywhere(&long).unwrap().n_frames(), 3_000);
+}

@@ -105,7 +105,8 @@ impl<'a> Source<'a> {
             None => self.rdr.position().byte(),
         };
         let at = usize::try_from(at).unwrap_or(usize::MAX).min(self.data.len());
-        (at, self.line_at(at))
+        let feeds = self.data[..at].iter().filter(|&&b| b == b'\n').count() as u64;
+        (at, self.prelude_lines + feeds + 1)
     }
 
     /// The CSV part.
