@@ -255,7 +255,10 @@ fn parse_own(path: &Path, n_numbers: usize) -> Res<gravline::trial::Trial> {
         threads,
     )?;
     let m = &trial.markers;
-    let read = trial.times_s.len() + (0..m.n_markers()).map(|i| 3 * m.track_len(i)).sum::<usize>();
+    let read = trial.times_s.len()
+        + (0..m.n_markers())
+            .map(|i| 3 * m.track_len(i))
+            .sum::<usize>();
     if read != n_numbers {
         return Err(format!("read {read} numbers, expected {n_numbers}").into());
     }

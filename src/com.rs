@@ -10,6 +10,8 @@
 //!
 //! Units: metres, kilograms, seconds.
 
+#![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
+
 use crate::body::model::PointId;
 use crate::body::{BodyModel, LandmarkError};
 use crate::config::{Config, Group, LoadPosition};

@@ -5,6 +5,8 @@
 //! Order (reference/methods.md 4, "order of operations"): fill gaps, filter markers, then joint
 //! centers, segments and CoM, then derivatives, XCoM, and the base of support.
 
+#![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
+
 use crate::anthropometry::SegmentTable;
 use crate::body::model::{PointId, FOOT_POINTS};
 use crate::body::{BodyModel, LandmarkError};
@@ -124,7 +126,9 @@ pub fn run_trial(
         filter.as_ref().map(|(c, pad)| (c, *pad)),
         threads,
     );
-    let result = run_resolved(&trial, models, &markers, &gaps, config, table, options, threads);
+    let result = run_resolved(
+        &trial, models, &markers, &gaps, config, table, options, threads,
+    );
     // Freeing that much memory holds up the page faults of work running beside it: the
     // markers are freed on a thread of their own while the caller goes on (writing outputs).
     if threads > 1 {

@@ -441,7 +441,12 @@ fn read_impl(
     let (mut src, header) = header::read_header(bytes, file)?;
     if header.clock == header::Clock::Frames && opts.rate_hz.is_none() {
         let column = header.column(header.clock_col);
-        return Err(TrialError::cell(file, header.line, column, Kind::MissingRate));
+        return Err(TrialError::cell(
+            file,
+            header.line,
+            column,
+            Kind::MissingRate,
+        ));
     }
     let scale = opts.units.to_metres();
     if let (Layout::Wide { labels, xyz }, Some((threads, min_piece_bytes))) =
@@ -470,7 +475,9 @@ fn read_impl(
         format: header.format,
     };
     let rows = match &header.layout {
-        Layout::Wide { labels, xyz } => rows::read_wide(&ctx, &mut src, &header, labels, xyz, scale)?,
+        Layout::Wide { labels, xyz } => {
+            rows::read_wide(&ctx, &mut src, &header, labels, xyz, scale)?
+        }
         Layout::Tidy { marker, xyz } => {
             rows::read_tidy(&ctx, &mut src, &header, *marker, xyz, scale)?
         }
@@ -490,7 +497,11 @@ mod tests {
     }
 
     /// The reader with pieces of a byte or more, and whether the parallel reader read the rows.
-    fn in_pieces(bytes: &[u8], opts: &ReadOptions, threads: usize) -> (Result<Trial, String>, bool) {
+    fn in_pieces(
+        bytes: &[u8],
+        opts: &ReadOptions,
+        threads: usize,
+    ) -> (Result<Trial, String>, bool) {
         match read_impl(bytes, "t.csv", "t", opts, Some((threads, 1))) {
             Ok((trial, fast)) => (Ok(trial), fast),
             Err(e) => (Err(e.to_string()), false),

@@ -194,7 +194,15 @@ fn run(trial: &Trial, toml: &str) -> (TrialResult, Summary) {
     let config = Config::from_raw(&RawConfig::from_toml(toml, "test").unwrap(), "test").unwrap();
     let subject = Subject::new(70.0, 1.75, Sex::Female);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
-    let result = run_trial(trial.clone(), &config, &subject, &table, RunOptions::default(), 2).unwrap();
+    let result = run_trial(
+        trial.clone(),
+        &config,
+        &subject,
+        &table,
+        RunOptions::default(),
+        2,
+    )
+    .unwrap();
     let summary = Summary::new(&result, &subject, None, "test".into());
     (result, summary)
 }

@@ -256,7 +256,10 @@ fn times_rounded_to_milliseconds_are_even_within_their_rounding() {
     assert_abs_diff_eq!(trial.rate_hz, 150.0, epsilon = 0.01);
     // A dropped frame is still an error: frame 100 is missing, so line 102 holds frame 101.
     let e = error_of(millisecond_stamps(150.0, 251, Some(100)).as_bytes(), &mm());
-    assert!((matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(102)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(102)),
+        "{e}"
+    );
 }
 
 #[test]
@@ -297,7 +300,7 @@ fn labels_from_header_or_tidy_marker_column() {
 fn error_empty_file() {
     for text in ["", "\n\n", "# only a comment\n\n# and another\n"] {
         let e = error_of(text.as_bytes(), &mm());
-        assert!(matches!(e.kind(), TrialErrorKind::Empty { .. }), "{e}");
+        assert!(matches!(e.kind(), TrialErrorKind::Empty), "{e}");
         assert_message(&e, &["bad.csv", "no header line", "`time,l_asis_x"]);
     }
 }
@@ -305,7 +308,10 @@ fn error_empty_file() {
 #[test]
 fn error_header_only() {
     let e = error_of(b"# c\n# c\ntime,a_x,a_y,a_z\n", &mm());
-    assert!((matches!(e.kind(), TrialErrorKind::NoData { .. }) && e.line() == Some(3)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::NoData) && e.line() == Some(3)),
+        "{e}"
+    );
     assert_message(
         &e,
         &[
@@ -319,7 +325,10 @@ fn error_header_only() {
 #[test]
 fn error_no_time_column() {
     let e = error_of(b"t,a_x,a_y,a_z\n0,1,2,3\n", &mm());
-    assert!(matches!(e.kind(), TrialErrorKind::NoTimeColumn { .. }), "{e}");
+    assert!(
+        matches!(e.kind(), TrialErrorKind::NoTimeColumn { .. }),
+        "{e}"
+    );
     assert_message(
         &e,
         &[
@@ -342,7 +351,10 @@ fn error_frame_column_without_rate() {
         Err(e) => e,
         Ok(_) => panic!("a frame column needs a rate"),
     };
-    assert!((matches!(e.kind(), TrialErrorKind::MissingRate { .. }) && e.line() == Some(2)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::MissingRate) && e.line() == Some(2)),
+        "{e}"
+    );
     assert_message(
         &e,
         &[
@@ -358,7 +370,10 @@ fn error_frame_column_without_rate() {
 fn error_not_a_number_names_file_line_column() {
     let path = fixture("trial_bad_number.csv");
     let e = read_trial(&path, &mm()).expect_err("`1.2.3` is not a number");
-    assert!((matches!(e.kind(), TrialErrorKind::NotANumber { .. }) && e.line() == Some(5)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::NotANumber { .. }) && e.line() == Some(5)),
+        "{e}"
+    );
     assert_message(
         &e,
         &[
@@ -383,7 +398,14 @@ fn error_not_a_number_names_file_line_column() {
 fn error_ragged_row() {
     let e = error_of(b"time,a_x,a_y,a_z\n0,1,2,3\n0.01,1,2,3,4\n", &mm());
     assert!(
-        (matches!(e.kind(), TrialErrorKind::Ragged { expected: 4, found: 5, .. }) && e.line() == Some(3)),
+        (matches!(
+            e.kind(),
+            TrialErrorKind::Ragged {
+                expected: 4,
+                found: 5,
+                ..
+            }
+        ) && e.line() == Some(3)),
         "{e}"
     );
     assert_message(
@@ -406,7 +428,13 @@ fn error_time_not_strictly_increasing() {
         &mm(),
     );
     assert!(
-        (matches!(e.kind(), TrialErrorKind::NotIncreasing { previous_line: 3, .. }) && e.line() == Some(4)),
+        (matches!(
+            e.kind(),
+            TrialErrorKind::NotIncreasing {
+                previous_line: 3,
+                ..
+            }
+        ) && e.line() == Some(4)),
         "{e}"
     );
     assert_message(
@@ -426,7 +454,10 @@ fn error_uneven_rate_names_first_offending_line() {
     let text =
         "time,a_x,a_y,a_z\n0,1,2,3\n0.01,1,2,3\n0.02,1,2,3\n0.03,1,2,3\n0.05,1,2,3\n0.06,1,2,3\n";
     let e = error_of(text.as_bytes(), &mm());
-    assert!((matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(6)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(6)),
+        "{e}"
+    );
     assert_message(
         &e,
         &[
@@ -441,13 +472,19 @@ fn error_uneven_rate_names_first_offending_line() {
     // 5 % jitter on exact stamps is uneven too.
     let text = "time,a_x,a_y,a_z\n0,1,2,3\n0.01,1,2,3\n0.0205,1,2,3\n0.0305,1,2,3\n0.0405,1,2,3\n";
     let e = error_of(text.as_bytes(), &mm());
-    assert!((matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(4)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(4)),
+        "{e}"
+    );
     // Frame numbers with a gap at the given rate.
     let e = error_of(
         b"frame,a_x,a_y,a_z\n1,1,2,3\n2,1,2,3\n4,1,2,3\n5,1,2,3\n",
         &with_rate(100.0),
     );
-    assert!((matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(4)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::UnevenRate { .. }) && e.line() == Some(4)),
+        "{e}"
+    );
 }
 
 #[test]
@@ -456,7 +493,10 @@ fn error_marker_with_some_axes_only() {
         b"time,l_heel_x,l_heel_y,r_heel_x,r_heel_y,r_heel_z\n0,1,2,3,4,5\n",
         &mm(),
     );
-    assert!(matches!(e.kind(), TrialErrorKind::IncompleteMarker { .. }), "{e}");
+    assert!(
+        matches!(e.kind(), TrialErrorKind::IncompleteMarker { .. }),
+        "{e}"
+    );
     assert_message(
         &e,
         &[
@@ -472,7 +512,14 @@ fn error_marker_with_some_axes_only() {
 fn error_duplicated_column_or_label() {
     let e = error_of(b"time,a_x,a_y,a_z,a_x\n0,1,2,3,1\n", &mm());
     assert!(
-        matches!(e.kind(), TrialErrorKind::DuplicateColumn { first: 2, second: 5, .. }),
+        matches!(
+            e.kind(),
+            TrialErrorKind::DuplicateColumn {
+                first: 2,
+                second: 5,
+                ..
+            }
+        ),
         "{e}"
     );
     assert_message(
@@ -485,7 +532,10 @@ fn error_duplicated_column_or_label() {
     );
     let e = error_of(b"# c\ntime,a_x,a_y,a_z,a.X\n0,1,2,3,1\n", &mm());
     assert!(
-        matches!(e.kind(), TrialErrorKind::DuplicateMarkerAxis { axis: 'x', .. }),
+        matches!(
+            e.kind(),
+            TrialErrorKind::DuplicateMarkerAxis { axis: 'x', .. }
+        ),
         "{e}"
     );
     assert_message(
@@ -499,7 +549,10 @@ fn error_duplicated_column_or_label() {
         ],
     );
     let e = error_of(b"time,TIME_S,a_x,a_y,a_z\n0,0,1,2,3\n", &mm());
-    assert!(matches!(e.kind(), TrialErrorKind::TwoClockColumns { .. }), "{e}");
+    assert!(
+        matches!(e.kind(), TrialErrorKind::TwoClockColumns { .. }),
+        "{e}"
+    );
     assert_message(
         &e,
         &[
@@ -572,11 +625,14 @@ fn error_tidy_duplicate_frame_and_marker() {
         ],
     );
     let e = error_of(b"time,marker,x,y\n0,a,1,2\n", &mm());
-    assert!(matches!(e.kind(), TrialErrorKind::TidyMissingColumn { .. }), "{e}");
+    assert!(
+        matches!(e.kind(), TrialErrorKind::TidyMissingColumn { .. }),
+        "{e}"
+    );
     assert_message(&e, &["line 1", "missing `z`"]);
     let e = error_of(b"time,marker,x,y,z\n0,a,1,2,3\n0, ,1,2,3\n", &mm());
     assert!(
-        (matches!(e.kind(), TrialErrorKind::EmptyMarkerLabel { .. }) && e.line() == Some(3)),
+        (matches!(e.kind(), TrialErrorKind::EmptyMarkerLabel) && e.line() == Some(3)),
         "{e}"
     );
     assert_message(&e, &["column 2 (`marker`)", "empty marker label"]);
@@ -586,7 +642,13 @@ fn error_tidy_duplicate_frame_and_marker() {
 fn error_non_utf8_bytes_name_the_line() {
     let e = error_of(b"time,a_x,a_y,a_z\n0,1,2,3\n0.01,1,\xff\xfe,3\n", &mm());
     assert!(
-        ((matches!(e.kind(), TrialErrorKind::NotUtf8) && e.position.as_ref().and_then(|p| p.column.as_ref()).map(|c| c.index) == Some(3)) && e.line() == Some(3)),
+        ((matches!(e.kind(), TrialErrorKind::NotUtf8)
+            && e.position
+                .as_ref()
+                .and_then(|p| p.column.as_ref())
+                .map(|c| c.index)
+                == Some(3))
+            && e.line() == Some(3)),
         "{e}"
     );
     assert_message(
@@ -599,12 +661,24 @@ fn error_non_utf8_bytes_name_the_line() {
     );
     let e = error_of(b"# \xe9t\xe9\ntime,a_x,a_\xe9_y\n", &mm());
     assert!(
-        ((matches!(e.kind(), TrialErrorKind::NotUtf8) && e.position.as_ref().and_then(|p| p.column.as_ref()).map(|c| c.index) == Some(3)) && e.line() == Some(2)),
+        ((matches!(e.kind(), TrialErrorKind::NotUtf8)
+            && e.position
+                .as_ref()
+                .and_then(|p| p.column.as_ref())
+                .map(|c| c.index)
+                == Some(3))
+            && e.line() == Some(2)),
         "{e}"
     );
     let e = error_of(b"time,marker,x,y,z\n0,\xff,1,2,3\n", &mm());
     assert!(
-        ((matches!(e.kind(), TrialErrorKind::NotUtf8) && e.position.as_ref().and_then(|p| p.column.as_ref()).map(|c| c.index) == Some(2)) && e.line() == Some(2)),
+        ((matches!(e.kind(), TrialErrorKind::NotUtf8)
+            && e.position
+                .as_ref()
+                .and_then(|p| p.column.as_ref())
+                .map(|c| c.index)
+                == Some(2))
+            && e.line() == Some(2)),
         "{e}"
     );
 }
@@ -612,19 +686,28 @@ fn error_non_utf8_bytes_name_the_line() {
 #[test]
 fn error_rate_problems() {
     let e = error_of(b"time,a_x,a_y,a_z\n0,1,2,3\n", &mm());
-    assert!((matches!(e.kind(), TrialErrorKind::SingleFrame { .. }) && e.line() == Some(2)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::SingleFrame) && e.line() == Some(2)),
+        "{e}"
+    );
     assert_message(&e, &["only one frame", "`rate_hz`"]);
     let e = error_of(
         b"time,a_x,a_y,a_z\n0,1,2,3\n0.01,1,2,3\n",
         &with_rate(120.0),
     );
-    assert!(matches!(e.kind(), TrialErrorKind::RateMismatch { .. }), "{e}");
+    assert!(
+        matches!(e.kind(), TrialErrorKind::RateMismatch { .. }),
+        "{e}"
+    );
     assert_message(
         &e,
         &["bad.csv", "100.0000 hz", "120 hz", "remove `rate_hz`"],
     );
     let e = error_of(b"frame,a_x,a_y,a_z\n0,1,2,3\n", &with_rate(0.0));
-    assert!(matches!(e.kind(), TrialErrorKind::InvalidRate { .. }), "{e}");
+    assert!(
+        matches!(e.kind(), TrialErrorKind::InvalidRate { .. }),
+        "{e}"
+    );
     assert_message(
         &e,
         &["bad.csv", "not a positive finite number", "`rate_hz`"],
@@ -661,7 +744,10 @@ fn error_overlong_header_line() {
     let mut text = vec![b'a'; 17 << 20];
     text.push(b'\n');
     let e = error_of(&text, &mm());
-    assert!((matches!(e.kind(), TrialErrorKind::LineTooLong { .. }) && e.line() == Some(1)), "{e}");
+    assert!(
+        (matches!(e.kind(), TrialErrorKind::LineTooLong { .. }) && e.line() == Some(1)),
+        "{e}"
+    );
 }
 
 #[test]
@@ -877,7 +963,10 @@ fn semicolon_separated_with_decimal_commas() {
     // A bad cell still names its line and column.
     let text = "time;a_x;a_y;a_z\n0,00;1,5;2;3\n0,01;1,5;x;3\n";
     let e = error_of(text.as_bytes(), &mm());
-    assert_message(&e, &["bad.csv line 3, column 3 (`a_y`)", "`x` is not a number"]);
+    assert_message(
+        &e,
+        &["bad.csv line 3, column 3 (`a_y`)", "`x` is not a number"],
+    );
 }
 
 #[test]
@@ -959,14 +1048,31 @@ fn read_everywhere(bytes: &[u8]) -> Result<Trial, String> {
         ("file", from_file),
         (
             "bytes, 1 thread",
-            name(gravline::trial::read_trial_bytes(bytes, "t.csv", "t", &mm(), 1)),
+            name(gravline::trial::read_trial_bytes(
+                bytes,
+                "t.csv",
+                "t",
+                &mm(),
+                1,
+            )),
         ),
         (
             "bytes, 4 threads",
-            name(gravline::trial::read_trial_bytes(bytes, "t.csv", "t", &mm(), 4)),
+            name(gravline::trial::read_trial_bytes(
+                bytes,
+                "t.csv",
+                "t",
+                &mm(),
+                4,
+            )),
         ),
     ] {
-        assert_eq!(got, from_reader, "{what}: {:?}", String::from_utf8_lossy(bytes));
+        assert_eq!(
+            got,
+            from_reader,
+            "{what}: {:?}",
+            String::from_utf8_lossy(bytes)
+        );
     }
     from_reader
 }
@@ -977,10 +1083,8 @@ fn a_stray_carriage_return_after_the_header_loses_no_row() {
     let e = read_everywhere(b"time,a_x,a_y,a_z\rt\n0,,,").unwrap_err();
     assert!(e.starts_with("t.csv line 1: expected 4 fields"), "{e}");
     // The bundled walk with its header line ended by `\r` instead of `\n`: all 600 frames.
-    let walk = std::fs::read(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/data/walk.csv"),
-    )
-    .unwrap();
+    let walk = std::fs::read(Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/data/walk.csv"))
+        .unwrap();
     let want = read_everywhere(&walk).unwrap();
     assert_eq!(want.n_frames(), 600);
     let header_end = walk

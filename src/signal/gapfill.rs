@@ -342,13 +342,8 @@ mod tests {
             for threads in [1, 2, 3] {
                 let (mut want, want_gaps) = fill_gaps(&raw, &times, 0.1);
                 crate::signal::low_pass_on(&mut want, RATE_HZ, 6.0, threads).unwrap();
-                let (got, gaps) = fill_and_low_pass(
-                    raw.clone(),
-                    &times,
-                    0.1,
-                    Some((&c, c.pad_len())),
-                    threads,
-                );
+                let (got, gaps) =
+                    fill_and_low_pass(raw.clone(), &times, 0.1, Some((&c, c.pad_len())), threads);
                 assert_eq!(
                     got, want,
                     "{threads} threads, repeated time {repeated_time}"
@@ -443,11 +438,7 @@ mod tests {
             &t,
             0.1,
         );
-        let (b, _) = fill_gaps(
-            &RawMarkers::from_options(labels, vec![far]),
-            &t,
-            0.1,
-        );
+        let (b, _) = fill_gaps(&RawMarkers::from_options(labels, vec![far]), &t, 0.1);
         assert_eq!(gaps_a.len(), 1);
         assert_eq!((gaps_a[0].start_frame, gaps_a[0].len_frames), (10, 2));
         assert_eq!(a.tracks[0].at(10), b.tracks[0].at(10));

@@ -269,9 +269,9 @@ impl Ctx<'_> {
                 Kind::EmptyMarkerLabel,
             ));
         }
-        std::str::from_utf8(bytes).map(str::to_string).map_err(|_| {
-            TrialError::cell(self.file, line, Self::index_column(col), Kind::NotUtf8)
-        })
+        std::str::from_utf8(bytes)
+            .map(str::to_string)
+            .map_err(|_| TrialError::cell(self.file, line, Self::index_column(col), Kind::NotUtf8))
     }
 }
 

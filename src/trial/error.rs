@@ -134,7 +134,9 @@ pub enum TrialErrorKind {
     LineTooLong { limit_bytes: u64 },
 
     /// A header or data cell that is not UTF-8 text.
-    #[error("the cell holds bytes that are not utf-8 text; save the file as utf-8 (or plain ascii)")]
+    #[error(
+        "the cell holds bytes that are not utf-8 text; save the file as utf-8 (or plain ascii)"
+    )]
     NotUtf8,
 
     /// A header and no data rows.
@@ -347,16 +349,23 @@ mod tests {
             index: 2,
             name: "a_x".into(),
         };
-        let e = TrialError::cell("a.csv", 4, column, TrialErrorKind::NonFiniteTime {
-            text: "x".into(),
-        });
-        assert!(e.to_string().starts_with("a.csv line 4, column 2 (`a_x`): `x` is not"));
+        let e = TrialError::cell(
+            "a.csv",
+            4,
+            column,
+            TrialErrorKind::NonFiniteTime { text: "x".into() },
+        );
+        assert!(e
+            .to_string()
+            .starts_with("a.csv line 4, column 2 (`a_x`): `x` is not"));
         let by_index = Column {
             index: 7,
             name: String::new(),
         };
         let e = TrialError::cell("a.csv", 1, by_index, TrialErrorKind::NotUtf8);
-        assert!(e.to_string().starts_with("a.csv line 1, column 7: the cell holds"));
+        assert!(e
+            .to_string()
+            .starts_with("a.csv line 1, column 7: the cell holds"));
         assert_eq!(e.line(), Some(1));
         assert!(std::mem::size_of::<TrialError>() <= 96);
     }

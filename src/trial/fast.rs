@@ -339,7 +339,6 @@ fn has_lone_cr(data: &[u8]) -> bool {
         .any(|(i, &b)| b == b'\r' && data.get(i + 1) != Some(&b'\n'))
 }
 
-
 #[cfg(test)]
 mod tests {
     use super::*;

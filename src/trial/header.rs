@@ -255,7 +255,6 @@ pub(super) fn parse_header(
     line: u64,
     format: Format,
 ) -> Result<Header, TrialError> {
-
     // The same header text twice.
     let mut first_of: HashMap<&str, usize> = HashMap::new();
     for (i, name) in names.iter().enumerate() {
@@ -263,11 +262,15 @@ pub(super) fn parse_header(
             continue;
         }
         if let Some(&first) = first_of.get(name.as_str()) {
-            return Err(TrialError::at(file, line, Kind::DuplicateColumn {
-                name: shown(name),
-                first: first + 1,
-                second: i + 1,
-            }));
+            return Err(TrialError::at(
+                file,
+                line,
+                Kind::DuplicateColumn {
+                    name: shown(name),
+                    first: first + 1,
+                    second: i + 1,
+                },
+            ));
         }
         first_of.insert(name, i);
     }
@@ -280,10 +283,14 @@ pub(super) fn parse_header(
     };
     let two = |cols: &[usize]| -> Result<(), TrialError> {
         if let [a, b, ..] = cols {
-            return Err(TrialError::at(file, line, Kind::TwoClockColumns {
-                first: column_of(&names, *a),
-                second: column_of(&names, *b),
-            }));
+            return Err(TrialError::at(
+                file,
+                line,
+                Kind::TwoClockColumns {
+                    first: column_of(&names, *a),
+                    second: column_of(&names, *b),
+                },
+            ));
         }
         Ok(())
     };
@@ -305,10 +312,14 @@ pub(super) fn parse_header(
                 .to_string(),
             _ => String::new(),
         };
-        return Err(TrialError::at(file, line, Kind::NoTimeColumn {
-            found: found_list(&names),
-            hint,
-        }));
+        return Err(TrialError::at(
+            file,
+            line,
+            Kind::NoTimeColumn {
+                found: found_list(&names),
+                hint,
+            },
+        ));
     };
     let is_clock = |i: usize| time_cols.contains(&i) || frame_cols.contains(&i);
     let ignored_name = |i: usize| -> String {
@@ -326,11 +337,15 @@ pub(super) fn parse_header(
         for (k, axis) in ["x", "y", "z", "marker"].iter().enumerate() {
             let cols = find_all(&[axis]);
             if let [a, b, ..] = cols.as_slice() {
-                return Err(TrialError::at(file, line, Kind::DuplicateColumn {
-                    name: (*axis).into(),
-                    first: a + 1,
-                    second: b + 1,
-                }));
+                return Err(TrialError::at(
+                    file,
+                    line,
+                    Kind::DuplicateColumn {
+                        name: (*axis).into(),
+                        first: a + 1,
+                        second: b + 1,
+                    },
+                ));
             }
             if let (Some(slot), Some(&c)) = (xyz.get_mut(k), cols.first()) {
                 *slot = c;
@@ -343,10 +358,14 @@ pub(super) fn parse_header(
             .map(|(a, _)| format!("`{a}`"))
             .collect();
         if !missing.is_empty() {
-            return Err(TrialError::at(file, line, Kind::TidyMissingColumn {
-                missing: missing.join(", "),
-                found: found_list(&names),
-            }));
+            return Err(TrialError::at(
+                file,
+                line,
+                Kind::TidyMissingColumn {
+                    missing: missing.join(", "),
+                    found: found_list(&names),
+                },
+            ));
         }
         for i in 0..names.len() {
             if !is_clock(i) && i != marker && !xyz.contains(&i) {
@@ -378,11 +397,19 @@ pub(super) fn parse_header(
             // `m` indexes `cols` by construction and `axis` is 0..3.
             let slot = &mut cols[m][axis];
             if let Some(first) = *slot {
-                return Err(TrialError::at(file, line, Kind::DuplicateMarkerAxis {
-                    marker: shown(label),
-                    axis: ['x', 'y', 'z'][axis],
-                    columns: format!("{} and {}", column_of(&names, first), column_of(&names, i)),
-                }));
+                return Err(TrialError::at(
+                    file,
+                    line,
+                    Kind::DuplicateMarkerAxis {
+                        marker: shown(label),
+                        axis: ['x', 'y', 'z'][axis],
+                        columns: format!(
+                            "{} and {}",
+                            column_of(&names, first),
+                            column_of(&names, i)
+                        ),
+                    },
+                ));
             }
             *slot = Some(i);
         }
@@ -406,19 +433,27 @@ pub(super) fn parse_header(
                             .join(", ")
                     };
                     let missing = list(false);
-                    return Err(TrialError::at(file, line, Kind::IncompleteMarker {
-                        marker: shown(label),
-                        present: join(&list(true)),
-                        missing: join(&missing),
-                        first_missing: missing.first().copied().unwrap_or('x'),
-                    }));
+                    return Err(TrialError::at(
+                        file,
+                        line,
+                        Kind::IncompleteMarker {
+                            marker: shown(label),
+                            present: join(&list(true)),
+                            missing: join(&missing),
+                            first_missing: missing.first().copied().unwrap_or('x'),
+                        },
+                    ));
                 }
             }
         }
         if labels.is_empty() {
-            return Err(TrialError::at(file, line, Kind::NoMarkers {
-                found: found_list(&names),
-            }));
+            return Err(TrialError::at(
+                file,
+                line,
+                Kind::NoMarkers {
+                    found: found_list(&names),
+                },
+            ));
         }
         layout = Layout::Wide { labels, xyz };
     }
@@ -450,7 +485,13 @@ mod tests {
     #[test]
     fn separators_are_found_on_the_header_line() {
         assert_eq!(detect_format(b"time,a_x").sep, b',');
-        assert_eq!(detect_format(b"time;a_x;a_y"), Format { sep: b';', comma_decimal: true });
+        assert_eq!(
+            detect_format(b"time;a_x;a_y"),
+            Format {
+                sep: b';',
+                comma_decimal: true
+            }
+        );
         assert_eq!(detect_format(b"time\ta_x").sep, b'\t');
         assert_eq!(detect_format(b"time;a,x").sep, b',');
         assert_eq!(detect_format(b"time").sep, b',');
@@ -461,7 +502,16 @@ mod tests {
         let names: Vec<String> = ["Frame", "Time", "LASI", "", "", "RASI", "", ""]
             .map(String::from)
             .to_vec();
-        let axes = [None, None, Some('x'), Some('y'), Some('z'), Some('x'), Some('y'), Some('z')];
+        let axes = [
+            None,
+            None,
+            Some('x'),
+            Some('y'),
+            Some('z'),
+            Some('x'),
+            Some('y'),
+            Some('z'),
+        ];
         assert_eq!(
             merged_names(&names, &axes),
             ["Frame", "Time", "LASI_x", "LASI_y", "LASI_z", "RASI_x", "RASI_y", "RASI_z"]

@@ -312,7 +312,10 @@ mod tests {
         let mut clock = vec![1.0, 2.0, 3.0, 5.0, 6.0, 9.0, 9.5];
         let mut lines = vec![2, 3, 4, 5, 6, 7, 8];
         let mut tracks = vec![clock.iter().map(|&t| [t, 0.0, 0.0]).collect::<Vec<_>>()];
-        assert_eq!(put_back_dropped_frames(&mut clock, &mut lines, &mut tracks), 3);
+        assert_eq!(
+            put_back_dropped_frames(&mut clock, &mut lines, &mut tracks),
+            3
+        );
         assert_eq!(clock, [1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0, 9.5]);
         assert_eq!(lines, [2, 3, 4, 5, 5, 6, 7, 7, 7, 8]);
         let seen: Vec<bool> = tracks[0].iter().map(|p| !p[0].is_nan()).collect();

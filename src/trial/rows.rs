@@ -104,7 +104,9 @@ impl<'a> Source<'a> {
             Some((rec, _)) => rec.position().map_or(0, |p| p.byte()),
             None => self.rdr.position().byte(),
         };
-        let at = usize::try_from(at).unwrap_or(usize::MAX).min(self.data.len());
+        let at = usize::try_from(at)
+            .unwrap_or(usize::MAX)
+            .min(self.data.len());
         let feeds = self.data[..at].iter().filter(|&&b| b == b'\n').count() as u64;
         (at, self.prelude_lines + feeds + 1)
     }
