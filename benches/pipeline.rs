@@ -9,7 +9,8 @@
 //!   the flat tracks that (b) fills); the fastest is the (a) figure;
 //! - (b) [`gravline::pipeline::process_file`] end to end without plots (read, fill, filter,
 //!   joint centers, segments, CoM, derivatives, support, `frames.csv`, `summary.json`);
-//! - (c) the per-frame core on data in memory (body model, CoM, support), in microseconds per
+//! - (c) the stages after filtering on data in memory ([`gravline::pipeline::run_filled`]:
+//!   body model, segments, CoM, derivatives, support) on one thread, in microseconds per
 //!   frame and per segment.
 //!
 //! The peak memory of (b) is the `VmHWM` of a child process (this binary run again with
@@ -26,7 +27,7 @@ use std::time::Instant;
 
 use gravline::anthropometry::Sex;
 use gravline::config::{Config, Subject};
-use gravline::pipeline::{process_file, OutputOptions, Setup};
+use gravline::pipeline::{process_file, run_filled, OutputOptions, RunOptions, Setup};
 
 type Res<T> = Result<T, Box<dyn Error>>;
 
@@ -241,103 +242,62 @@ fn parse_polars(path: &Path, labels: &[String]) -> Res<polars::prelude::DataFram
     Ok(df)
 }
 
-/// Every number of the file by gravline's in-memory reader, as (b) reads it: the file mapped,
-/// its lines parsed on every core into flat tracks (clock, then three coordinates per marker).
-fn parse_own(path: &Path, n_numbers: usize) -> Res<gravline::trial::FlatTrial> {
+/// Every number of the file by gravline's reader, as (b) reads it: the file mapped, its lines
+/// parsed on every core into flat tracks (clock, then three coordinates per marker).
+fn parse_own(path: &Path, n_numbers: usize) -> Res<gravline::trial::Trial> {
     let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
     let bytes = gravline::trial::TrialBytes::open(path)?;
-    let flat = gravline::trial::read_flat(
+    let trial = gravline::trial::read_trial_bytes(
         &bytes,
         "long_walk.csv",
         "long_walk",
         &gravline::trial::ReadOptions::default(),
         threads,
     )?;
-    let read = flat.trial.times_s.len() + flat.tracks.iter().map(|t| 3 * t.len()).sum::<usize>();
+    let m = &trial.markers;
+    let read = trial.times_s.len()
+        + (0..m.n_markers())
+            .map(|i| 3 * m.track_len(i))
+            .sum::<usize>();
     if read != n_numbers {
         return Err(format!("read {read} numbers, expected {n_numbers}").into());
     }
-    Ok(flat)
+    Ok(trial)
 }
 
 // --- (c) the per-frame core ------------------------------------------------------------------
 
-/// Median microseconds per frame of the body model, CoM and support stage on the filtered
-/// markers of the trial, and the number of segments.
+/// Median microseconds per frame of the stages after filtering ([`run_filled`]: body model,
+/// segments, CoM, derivatives, XCoM, support) on one thread, on the filtered markers of the
+/// trial, and the number of segments.
 fn core_per_frame(path: &Path, setup: &Setup, reps: usize) -> Res<(f64, usize)> {
-    use gravline::body::model::FOOT_POINTS;
-    use gravline::body::BodyModel;
-    use gravline::com::ComModel;
-    use gravline::support;
-
     let config = &setup.config;
     let trial = gravline::trial::read_trial(path, &config.read_options())?;
-    let labels = &trial.markers.labels;
-    let mut body = BodyModel::build(
-        labels,
-        &trial.file,
-        config,
-        &setup.subject,
-        &setup.table,
-        &FOOT_POINTS,
-    )?;
-    let com_model = ComModel::new(labels, &trial.file, config, &body)?;
-    let (mut markers, _) =
+    let (mut markers, gaps) =
         gravline::signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
     if let Some(cutoff_hz) = config.cutoff_hz {
         gravline::signal::low_pass(&mut markers, trial.rate_hz, cutoff_hz)?;
     }
-    body.measure_leg_length(&markers);
     let n = trial.n_frames();
-    let series: Vec<Vec<Option<[f64; 3]>>> =
-        markers.tracks.iter().map(|t| t.to_series(n)).collect();
     let mut times = Vec::new();
+    let mut n_segments = 0;
     for _ in 0..reps {
         let t = Instant::now();
-        let mut frame_markers = vec![None; labels.len()];
-        let mut points = Vec::new();
-        let mut seg = Vec::new();
-        let mut system = Vec::with_capacity(n);
-        let mut foot = support::FootFrames::new(&body, n);
-        for f in 0..n {
-            for (slot, s) in frame_markers.iter_mut().zip(&series) {
-                *slot = s[f];
-            }
-            body.evaluate(&frame_markers, &mut points);
-            let c = com_model.frame(&body, &points, &frame_markers, &mut seg);
-            system.push(c.system.map(|p| [p.x, p.y, p.z]));
-            foot.push(&points);
-        }
-        let dt = 1.0 / trial.rate_hz;
-        let (velocity, _) = gravline::signal::derivative::of_series(&system, dt);
-        let (floor, _) = support::floor_m(&foot, trial.up_axis, &config.support, trial.rate_hz);
-        let floor_m = floor.level_m;
-        let omega0 = gravline::com::omega0(body.leg_length_m.unwrap_or(0.9));
-        let up = trial.up_axis;
-        let xcom: Vec<Option<[f64; 3]>> = system
-            .iter()
-            .zip(&velocity)
-            .map(|(c, v)| {
-                let (c, v) = (c.as_ref()?, v.as_ref()?);
-                let xi = gravline::com::xcom_horizontal(up.horizontal(c), up.horizontal(v), omega0);
-                Some(up.point(xi, floor_m))
-            })
-            .collect();
-        let s = support::analyse(
-            &foot,
-            &system,
-            &velocity,
-            &xcom,
-            &floor,
-            up,
-            &trial.times_s,
-            trial.rate_hz,
-            &config.support,
-        );
+        let result = run_filled(
+            &trial,
+            &markers,
+            &gaps,
+            config,
+            &setup.subject,
+            &setup.table,
+            RunOptions::default(),
+            1,
+        )?;
         times.push(t.elapsed().as_secs_f64());
-        std::hint::black_box(s);
+        n_segments = result.model.segments.len();
+        std::hint::black_box(result);
     }
-    Ok((median(&times) * 1e6 / n as f64, body.segments.len()))
+    Ok((median(&times) * 1e6 / n as f64, n_segments))
 }
 
 // --- peak memory of (b) ----------------------------------------------------------------------

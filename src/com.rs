@@ -12,6 +12,7 @@
 //!
 //! Units: metres, kilograms, seconds.
 
+#![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
 pub mod spread;
 
 use crate::body::model::PointId;

@@ -3,7 +3,7 @@
 //! takes these types; nothing reads a file or a flag again.
 
 use crate::anthropometry::{SegmentKind, Sex};
-use crate::trial::{LengthUnit, ReadOptions, UpAxis};
+use crate::trial::{LengthUnit, MissingFrames, ReadOptions, UpAxis};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -29,6 +29,8 @@ pub struct RawInput {
     pub units: Option<String>,
     pub up_axis: Option<String>,
     pub rate_hz: Option<f64>,
+    /// `"error"` (default) or `"gap"`: dropped frames are an error or gaps.
+    pub missing_frames: Option<String>,
 }
 
 /// `[model]`: table, hip method, arms, endpoint choices.
@@ -334,6 +336,9 @@ pub struct Config {
     #[serde(skip)]
     pub declared: Declared,
     pub rate_hz: Option<f64>,
+    /// Dropped frames: an error (default) or gaps.
+    #[serde(skip_serializing_if = "MissingFrames::is_error")]
+    pub missing_frames: MissingFrames,
     /// Landmark name -> label in the file; landmarks not listed map to themselves.
     pub landmarks: BTreeMap<String, String>,
     /// `de-leva-1996`, `dempster-winter` or a table path.
@@ -407,6 +412,15 @@ impl Config {
         if let Some(rate) = raw.input.rate_hz {
             positive(rate, "[input] rate_hz").map_err(invalid)?;
         }
+        let missing_frames = match raw.input.missing_frames.as_deref().map(str::trim) {
+            None | Some("error") => MissingFrames::Error,
+            Some("gap") => MissingFrames::Gap,
+            Some(other) => {
+                return Err(invalid(format!(
+                    "[input] missing_frames = `{other}`; use \"error\" or \"gap\""
+                )))
+            }
+        };
         let hip = match raw.model.hip.as_deref() {
             None | Some("harrington-2007") => HipMethod::Harrington2007,
             Some("bell-1990") => HipMethod::Bell1990,
@@ -586,6 +600,7 @@ impl Config {
                 up_axis: raw.input.up_axis.is_some(),
             },
             rate_hz: raw.input.rate_hz,
+            missing_frames,
             landmarks: raw.landmarks.clone(),
             table: raw
                 .model
@@ -632,6 +647,7 @@ impl Config {
             units: self.units,
             up_axis: self.up_axis,
             rate_hz: self.rate_hz,
+            missing_frames: self.missing_frames,
         }
     }
 }
@@ -774,6 +790,7 @@ pub const DEFAULT_CONFIG_TOML: &str = r#"# gravline configuration. Every key is 
 units = "mm"          # "mm" or "m": unit of the coordinates in the trial file
 up_axis = "z"         # vertical axis of the lab: "z", "y", "x", "-z", "-y" or "-x"
 # rate_hz = 100.0     # required when the file has a `frame` column instead of `time`
+# missing_frames = "error"  # "gap": frames dropped from the file are read as gaps
 
 [landmarks]
 # landmark = "label in the file"; landmarks not listed are looked up under their own name.

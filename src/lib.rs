@@ -24,7 +24,6 @@
 
 // Errors carry the file, label, position and a hint as text by design (one line a user can act
 // on); they are built at most once per trial, so their size does not matter.
-#![allow(clippy::result_large_err)]
 
 /// Segment tables: de Leva 1996, Dempster via Winter, user tables.
 pub mod anthropometry;

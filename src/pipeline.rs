@@ -5,6 +5,8 @@
 //! Order (reference/methods.md 4, "order of operations"): fill gaps, filter markers, then joint
 //! centers, segments and CoM, then derivatives, XCoM, and the base of support.
 
+#![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
+
 use crate::anthropometry::SegmentTable;
 use crate::body::model::{PointId, FOOT_POINTS};
 use crate::body::{BodyModel, LandmarkError};
@@ -12,7 +14,7 @@ use crate::com::{self, ComError, ComModel, P};
 use crate::config::{Config, Subject, XcomLength};
 use crate::signal::{self, SignalError};
 use crate::support::{self, SupportSeries};
-use crate::trial::{Trial, UpAxis};
+use crate::trial::{RawMarkers, Trial, UpAxis};
 use crate::warning::Warning;
 
 /// Anything that stops a trial.
@@ -114,45 +116,53 @@ impl TrialResult {
     }
 }
 
-/// Runs one trial through every stage.
+/// Runs one trial through every stage, on up to `threads` threads (the caller's share of the
+/// machine; the result does not depend on it). The raw tracks are taken over: each is filled
+/// in place and low-passed on the same thread while it is in cache.
 pub fn run_trial(
-    trial: &Trial,
+    trial: Trial,
     config: &Config,
     subject: &Subject,
     table: &SegmentTable,
     options: RunOptions,
+    threads: usize,
 ) -> Result<TrialResult, PipelineError> {
-    run_trial_with_plates(trial, config, subject, table, options, None)
+    run_trial_with_plates(trial, config, subject, table, options, threads, None)
 }
 
 /// [`run_trial`] with a plate recording for the plate stage (module [`crate::plates`]).
 pub fn run_trial_with_plates(
-    trial: &Trial,
+    mut trial: Trial,
     config: &Config,
     subject: &Subject,
     table: &SegmentTable,
     options: RunOptions,
+    threads: usize,
     plates: Option<&crate::plates::PlateRecording>,
 ) -> Result<TrialResult, PipelineError> {
-    let models = Models::resolve(trial, config, subject, table)?;
-    let tracks = &trial.markers.tracks;
-    let found = declarations(&models, trial, config, subject, |i, f| {
-        tracks.get(i)?.get(f).copied().flatten()
+    let threads = threads.max(1);
+    let models = Models::resolve(&trial, config, subject, table)?;
+    let found = declarations(&models, &trial, config, subject, |i, f| {
+        trial.markers.point(i, f)
     })?;
-    let (markers, gaps) = signal::fill_gaps(&trial.markers, &trial.times_s, config.max_gap_s);
-    let (mut result, _markers) = run_filled(
-        trial,
-        models,
-        markers,
-        gaps,
-        config,
-        subject,
-        table,
-        options,
-        trial_threads(),
-        true,
-        plates,
-    )?;
+    let filter = low_pass_design(&trial, config)?;
+    let raw = RawMarkers::new(trial.markers.labels.clone(), trial.markers.take_tracks());
+    let (markers, gaps) = signal::fill_and_low_pass(
+        raw,
+        &trial.times_s,
+        config.max_gap_s,
+        filter.as_ref().map(|(c, pad)| (c, *pad)),
+        threads,
+    );
+    let result = run_resolved(
+        &trial, models, &markers, &gaps, config, subject, table, options, threads, plates,
+    );
+    // Freeing that much memory holds up the page faults of work running beside it: the
+    // markers are freed on a thread of their own while the caller goes on (writing outputs).
+    if threads > 1 {
+        std::thread::spawn(move || drop(markers));
+    }
+    let mut result = result?;
     result.warnings.splice(0..0, found);
     Ok(result)
 }
@@ -179,38 +189,33 @@ fn declarations(
     })
 }
 
-/// [`run_trial`] on a trial read in the flat layout: each raw track is filled in place and
-/// low-passed on the same thread while it is in cache (the same result, less memory and
-/// time). The filled markers come back too, for the caller to free when it suits it.
-fn run_flat_trial(
-    flat: crate::trial::FlatTrial,
+/// The stages after gap filling and filtering (module doc, order of operations): the
+/// per-frame core (body model, segments, CoM, on ranges of frames at once), derivatives, XCoM
+/// and the base of support, for `markers` filled from `trial` (whose raw tracks are not read).
+#[allow(clippy::too_many_arguments)]
+pub fn run_filled(
+    trial: &Trial,
+    markers: &signal::Markers,
+    gaps: &[signal::FilledGap],
     config: &Config,
     subject: &Subject,
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
-    plates: Option<&crate::plates::PlateRecording>,
-) -> Result<(TrialResult, signal::Markers), PipelineError> {
-    let crate::trial::FlatTrial { trial, tracks } = flat;
-    let models = Models::resolve(&trial, config, subject, table)?;
-    let found = declarations(&models, &trial, config, subject, |i, f| {
-        let p = *tracks.get(i)?.get(f)?;
-        (!p.iter().any(|v| v.is_nan())).then_some(p)
-    })?;
-    let filter = low_pass_design(&trial, config)?;
-    let (markers, gaps) = signal::gapfill::fill_flat(
-        trial.markers.labels.clone(),
-        tracks,
-        &trial.times_s,
-        config.max_gap_s,
-        filter.as_ref().map(|(c, pad)| (c, *pad)),
-        threads,
-    );
-    let (mut result, markers) = run_filled(
-        &trial, models, markers, gaps, config, subject, table, options, threads, false, plates,
-    )?;
-    result.warnings.splice(0..0, found);
-    Ok((result, markers))
+) -> Result<TrialResult, PipelineError> {
+    let models = Models::resolve(trial, config, subject, table)?;
+    run_resolved(
+        trial,
+        models,
+        markers,
+        gaps,
+        config,
+        subject,
+        table,
+        options,
+        threads.max(1),
+        None,
+    )
 }
 
 /// The low-pass section and its end pad, when the configuration asks for one.
@@ -307,22 +312,20 @@ fn frame_series(
     }
 }
 
-/// Everything after gap filling (module doc, order of operations); the result, and the markers
-/// it was computed from.
+/// [`run_filled`] with the models resolved.
 #[allow(clippy::too_many_arguments)]
-fn run_filled(
+fn run_resolved(
     trial: &Trial,
     models: Models,
-    mut markers: signal::Markers,
-    gaps: Vec<signal::FilledGap>,
+    markers: &signal::Markers,
+    gaps: &[signal::FilledGap],
     config: &Config,
     subject: &Subject,
     table: &SegmentTable,
     options: RunOptions,
     threads: usize,
-    low_pass: bool,
     plates: Option<&crate::plates::PlateRecording>,
-) -> Result<(TrialResult, signal::Markers), PipelineError> {
+) -> Result<TrialResult, PipelineError> {
     let labels = &trial.markers.labels;
     let Models {
         body: mut body_model,
@@ -330,16 +333,11 @@ fn run_filled(
     } = models;
     let mut warnings = trial.warnings.clone();
     warnings.extend(signal::filled_warnings(
-        &gaps,
+        gaps,
         labels,
         &trial.times_s,
         trial.rate_hz,
     ));
-    if low_pass {
-        if let Some((c, pad)) = low_pass_design(trial, config)? {
-            signal::butterworth::low_pass_with(&mut markers, &c, pad, threads);
-        }
-    }
 
     let n = trial.n_frames();
     let mut used = body_model.markers_used.clone();
@@ -348,7 +346,7 @@ fn run_filled(
     }
     used.sort_unstable();
     used.dedup();
-    body_model.measure_leg_length(&markers);
+    body_model.measure_leg_length(markers);
     warnings.extend(body_model.warnings.iter().cloned());
 
     let models = Models {
@@ -398,7 +396,7 @@ fn run_filled(
         for (start, mut out) in group {
             frame_series(
                 &models,
-                &markers,
+                markers,
                 &used,
                 start,
                 &mut out,
@@ -577,7 +575,7 @@ fn run_filled(
         labels,
         !result.load_names.is_empty(),
     ));
-    Ok((result, markers))
+    Ok(result)
 }
 
 fn to_array(p: P) -> [f64; 3] {
@@ -683,7 +681,7 @@ pub fn process_file(
     // The digest is taken on its own thread while the numbers are parsed.
     let (input_sha256, trial) = std::thread::scope(|s| {
         let digest = (threads > 1).then(|| s.spawn(|| crate::report::sha256_hex(&bytes)));
-        let trial = crate::trial::read_flat(
+        let trial = crate::trial::read_trial_bytes(
             &bytes,
             &path.display().to_string(),
             &stem,
@@ -706,7 +704,7 @@ pub fn process_file(
         )?),
         None => None,
     };
-    let (result, markers) = run_flat_trial(
+    let result = run_trial_with_plates(
         trial,
         &setup.config,
         &setup.subject,
@@ -717,13 +715,8 @@ pub fn process_file(
     )?;
     let summary =
         crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());
-    // The markers are freed on another thread while the outputs are written: freeing that
-    // much memory holds up the page faults of work running beside it, and writing makes few.
-    let ((), written) = signal::both(
-        threads,
-        || drop(markers),
-        || crate::report::write_outputs(dir, &result, &summary, &options.plots, !options.no_report),
-    );
+    let written =
+        crate::report::write_outputs(dir, &result, &summary, &options.plots, !options.no_report);
     written?;
     Ok(summary)
 }

@@ -19,11 +19,12 @@ fn config(toml: &str) -> Config {
 fn run(trial: &Trial, config: &Config, subject: &Subject) -> TrialResult {
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
     run_trial(
-        trial,
+        trial.clone(),
         config,
         subject,
         &table,
         RunOptions { segments: true },
+        2,
     )
     .unwrap()
 }
@@ -96,12 +97,10 @@ fn a_rigid_motion_of_the_lab_moves_the_com_with_it() {
     let rot = Rotation3::from_euler_angles(0.3, -0.7, 1.9);
     let shift = Vector3::new(1.5, -2.0, 0.4);
     let mut moved = trial.clone();
-    for track in &mut moved.markers.tracks {
-        for p in track.iter_mut().flatten() {
-            let q = rot * Vector3::from(*p) + shift;
-            *p = [q.x, q.y, q.z];
-        }
-    }
+    moved.markers.map_points(|p| {
+        let q = rot * Vector3::from(p) + shift;
+        [q.x, q.y, q.z]
+    });
     let r = run(&moved, &cfg, &subject);
     for (a, b) in base.com.iter().zip(&r.com) {
         let expected = rot * Vector3::from(a.unwrap()) + shift;

@@ -35,7 +35,7 @@ fn run_with_bar(foot_shift_m: f64, bar_x_m: f64, bar_kg: f64) -> TrialResult {
     // An 80 kg lifter (de Leva male fractions sum to 1.0000).
     let subject = Subject::new(80.0, 1.78, Sex::Male);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
-    run_trial(&trial, &config, &subject, &table, RunOptions::default()).unwrap()
+    run_trial(trial, &config, &subject, &table, RunOptions::default(), 2).unwrap()
 }
 
 /// Body CoM offset from the mid-foot (zero-mass bar), along the foot direction.

@@ -46,11 +46,12 @@ fn lateral_malleoli_and_the_ankle_width_give_the_marked_result() {
     subject.leg_length_m = Some(0.9);
     let run = |points: &[(&str, [f64; 3])], subject: &Subject| {
         run_trial(
-            &static_trial(points, 5),
+            static_trial(points, 5),
             &config(),
             subject,
             &table,
             RunOptions { segments: true },
+            1,
         )
     };
     let marked = run(&points(true), &subject).unwrap();

@@ -19,11 +19,12 @@ fn run(points: &[(&str, [f64; 3])], toml: &str, sex: Sex) -> TrialResult {
     let subject = Subject::new(75.0, 1.77, sex);
     let table = SegmentTable::load(&config.table, sex).unwrap();
     run_trial(
-        &static_trial(points, 10),
+        static_trial(points, 10),
         &config,
         &subject,
         &table,
         RunOptions { segments: true },
+        1,
     )
     .unwrap()
 }
@@ -178,11 +179,12 @@ fn a_lower_body_marker_set_names_the_missing_landmark() {
     for name in ["dumas-2007", "de-leva-1996"] {
         let table = SegmentTable::load(name, Sex::Male).unwrap();
         let e = run_trial(
-            &static_trial(&points, 10),
+            static_trial(&points, 10),
             &config,
             &subject,
             &table,
             RunOptions::default(),
+            1,
         )
         .unwrap_err()
         .to_string();

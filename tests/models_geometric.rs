@@ -127,11 +127,12 @@ fn a_body_of_known_solids_gives_the_exact_com() {
         setup.table.population
     );
     let result = run_trial(
-        &static_trial(&pts, 5),
+        static_trial(&pts, 5),
         &setup.config,
         &setup.subject,
         &setup.table,
         RunOptions::default(),
+        1,
     )
     .unwrap();
     let com = result.com[0].unwrap();

@@ -60,11 +60,12 @@ fn standing_com_height_under_each_table_and_the_spread() {
                 gravline::trial::read_trial(&dir.join("trial.csv"), &setup.config.read_options())
                     .unwrap();
             let r = run_trial(
-                &trial,
+                trial.clone(),
                 &setup.config,
                 &setup.subject,
                 &setup.table,
                 RunOptions::default(),
+                1,
             )
             .unwrap();
             for p in &r.spread.unwrap().pairs {
@@ -165,9 +166,16 @@ fn walk_lower_body_spread_of_the_legs() {
     );
     // The whole pipeline on this marker set stops with the landmark error, as every table does.
     let table = SegmentTable::load("dumas-2007", Sex::Male).unwrap();
-    let e = run_trial(&trial, &cfg, &subject, &table, RunOptions::default())
-        .unwrap_err()
-        .to_string();
+    let e = run_trial(
+        trial.clone(),
+        &cfg,
+        &subject,
+        &table,
+        RunOptions::default(),
+        1,
+    )
+    .unwrap_err()
+    .to_string();
     assert!(e.contains("not found"), "{e}");
 }
 
@@ -187,7 +195,7 @@ fn spread_is_the_largest_distance_between_the_tables() {
         let cfg = config(&format!("{base}table = \"{table}\"\n"));
         let t = SegmentTable::load(table, Sex::Male).unwrap();
         coms.push(
-            run_trial(&trial, &cfg, &subject, &t, RunOptions::default())
+            run_trial(trial.clone(), &cfg, &subject, &t, RunOptions::default(), 1)
                 .unwrap()
                 .com[0]
                 .unwrap(),
@@ -195,7 +203,7 @@ fn spread_is_the_largest_distance_between_the_tables() {
     }
     let cfg = config(&format!("{base}spread = true\n"));
     let t = SegmentTable::load("de-leva-1996", Sex::Male).unwrap();
-    let r = run_trial(&trial, &cfg, &subject, &t, RunOptions::default()).unwrap();
+    let r = run_trial(trial.clone(), &cfg, &subject, &t, RunOptions::default(), 1).unwrap();
     let s = r.spread.unwrap();
     assert_eq!(s.models.len(), 3, "{:?}", s.models);
     let d = |a: [f64; 3], b: [f64; 3]| {

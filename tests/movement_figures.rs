@@ -17,10 +17,7 @@ fn to_trial(s: &SynthTrial, rate_hz: f64) -> Trial {
         times_s: s.times_s.clone(),
         rate_hz,
         up_axis: UpAxis::Z,
-        markers: RawMarkers {
-            labels: s.labels.clone(),
-            tracks: s.positions.clone(),
-        },
+        markers: RawMarkers::from_options(s.labels.clone(), s.positions.clone()),
         warnings: Vec::new(),
     }
 }
@@ -31,11 +28,12 @@ fn run_opts(scenario: Scenario, o: &SynthOptions, toml: &str) -> (SynthTrial, Tr
     let subject = Subject::new(o.mass_kg, o.height_m, o.sex);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
     let r = run_trial(
-        &to_trial(&s, o.rate_hz),
+        to_trial(&s, o.rate_hz),
         &config,
         &subject,
         &table,
         RunOptions::default(),
+        1,
     )
     .unwrap();
     (s, r)

@@ -1,15 +1,16 @@
 //! The fast paths give the same bytes and values as the general code they stand in for:
 //!
-//! - the in-memory trial reader (`read_trial_bytes`, parsing on several threads) against the
-//!   streaming reader (`read_trial_from`): the same trial, or the same error message, on a long
-//!   synthetic walk, on the fixtures and on randomly mutated fixtures;
+//! - the trial reader on several threads (`read_trial_bytes`, rows parsed by line ranges) against
+//!   the same reader on one (`read_trial_from`): the same trial, or the same error message, on a
+//!   long synthetic walk, on the fixtures and on randomly mutated fixtures (the parallel rows
+//!   against the general row loop on small pieces: the unit tests of `trial`);
 //! - the `frames.csv` writer (hand-made fixed-point numbers, one reused buffer) against the
 //!   writer it replaced (`write!` with `{:.6}` for every cell, kept below as the reference),
 //!   byte for byte, on synthetic walks, squats (loads, mid-foot) and jumps, with segment and
 //!   group columns;
-//! - `process_file` (in-memory reader into flat tracks, gaps filled in place and each track
-//!   low-passed while in cache, work shared among threads) against `run_trial` on the streamed
-//!   trial and the reference writer: the same `frames.csv`, and the same bytes from the writer
+//! - `process_file` (the file mapped, read on several threads, gaps filled in place and each
+//!   track low-passed while in cache, work shared among threads) against `run_trial` on one
+//!   thread and the reference writer: the same `frames.csv`, and the same bytes from the writer
 //!   on any number of threads;
 //! - the support stage on several threads against one thread: the same series, outlines,
 //!   footprints, events and steps.
@@ -46,7 +47,8 @@ fn in_memory_reader_gives_the_streaming_readers_trial_on_a_long_walk() {
     let bytes = csv_of(&long_trial(12_000, 45, 3));
     let opts = ReadOptions::default();
     let want = general(&bytes, &opts).unwrap();
-    assert!(want.markers.tracks.iter().flatten().any(Option::is_none));
+    let m = &want.markers;
+    assert!((0..m.n_markers()).any(|i| m.points(i).any(|p| p.is_none())));
     for threads in [1, 2, 3, 8] {
         assert_eq!(
             fast(&bytes, &opts, threads).unwrap(),
@@ -220,7 +222,7 @@ fn result_of(scenario: Scenario, config: &Config, options: RunOptions) -> TrialR
     let trial = read_trial_from(bytes.as_slice(), "t.csv", "t", &config.read_options()).unwrap();
     let subject = Subject::new(70.0, 1.75, Sex::Male);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
-    run_trial(&trial, config, &subject, &table, options).unwrap()
+    run_trial(trial, config, &subject, &table, options, 1).unwrap()
 }
 
 #[test]
@@ -264,11 +266,12 @@ fn process_file_gives_the_general_paths_frames() {
 
     let trial = read_trial_from(bytes.as_slice(), "t.csv", "t", &ReadOptions::default()).unwrap();
     let r = run_trial(
-        &trial,
+        trial,
         &setup.config,
         &setup.subject,
         &setup.table,
         RunOptions::default(),
+        1,
     )
     .unwrap();
     assert!(r.valid_fraction() > 0.9);

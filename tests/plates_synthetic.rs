@@ -22,10 +22,7 @@ fn to_trial(s: &SynthTrial, rate_hz: f64) -> Trial {
         times_s: s.times_s.clone(),
         rate_hz,
         up_axis: UpAxis::Z,
-        markers: RawMarkers {
-            labels: s.labels.clone(),
-            tracks: s.positions.clone(),
-        },
+        markers: RawMarkers::from_options(s.labels.clone(), s.positions.clone()),
         warnings: Vec::new(),
     }
 }
@@ -45,11 +42,12 @@ fn run(o: &SynthOptions, scenario: Scenario) -> (SynthTrial, SynthPlates, TrialR
     subject.leg_length_m = Some(gravline::synth::model_leg_length_m(o.height_m));
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
     let r = run_trial_with_plates(
-        &to_trial(&s, o.rate_hz),
+        to_trial(&s, o.rate_hz),
         &config,
         &subject,
         &table,
         RunOptions::default(),
+        1,
         Some(&p.recording),
     )
     .unwrap();

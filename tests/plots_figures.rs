@@ -112,7 +112,7 @@ fn sway_trial(seconds: f64, extra: &[(&str, Track)]) -> Trial {
         times_s,
         rate_hz: RATE_HZ,
         up_axis: UpAxis::Z,
-        markers: RawMarkers { labels, tracks },
+        markers: RawMarkers::from_options(labels, tracks),
         warnings: Vec::new(),
     }
 }
@@ -171,7 +171,7 @@ fn walk_trial(seconds: f64) -> Trial {
         times_s,
         rate_hz: RATE_HZ,
         up_axis: UpAxis::Z,
-        markers: RawMarkers { labels, tracks },
+        markers: RawMarkers::from_options(labels, tracks),
         warnings: Vec::new(),
     }
 }
@@ -194,7 +194,15 @@ fn run(trial: &Trial, toml: &str) -> (TrialResult, Summary) {
     let config = Config::from_raw(&RawConfig::from_toml(toml, "test").unwrap(), "test").unwrap();
     let subject = Subject::new(70.0, 1.75, Sex::Female);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
-    let result = run_trial(trial, &config, &subject, &table, RunOptions::default()).unwrap();
+    let result = run_trial(
+        trial.clone(),
+        &config,
+        &subject,
+        &table,
+        RunOptions::default(),
+        2,
+    )
+    .unwrap();
     let summary = Summary::new(&result, &subject, None, "test".into());
     (result, summary)
 }

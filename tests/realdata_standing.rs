@@ -41,11 +41,7 @@ fn standing_com_height_and_projection_are_those_of_a_person() {
         gravline::trial::read_trial(&dir.join("trial.csv"), &setup.config.read_options()).unwrap();
     let mean_x = |label: &str| {
         let i = trial.markers.index_of(label).unwrap();
-        let xs: Vec<f64> = trial.markers.tracks[i]
-            .iter()
-            .flatten()
-            .map(|p| p[0])
-            .collect();
+        let xs: Vec<f64> = trial.markers.points(i).flatten().map(|p| p[0]).collect();
         xs.iter().sum::<f64>() / xs.len() as f64
     };
     let heels = (mean_x("l_heel") + mean_x("r_heel")) / 2.0;

@@ -81,10 +81,7 @@ fn gap_filling_matches_scipy_stretch_by_stretch() {
     let times_s: Vec<f64> = data.iter().map(|r| num(&r[0])).collect();
     let raw_track: Vec<Option<[f64; 3]>> = data.iter().map(|r| opt_xyz(&r[1..4])).collect();
     let expected: Vec<Option<[f64; 3]>> = data.iter().map(|r| opt_xyz(&r[4..7])).collect();
-    let raw = RawMarkers {
-        labels: vec!["wrist".to_string()],
-        tracks: vec![raw_track],
-    };
+    let raw = RawMarkers::from_options(vec!["wrist".to_string()], vec![raw_track]);
 
     let (markers, gaps) = fill_gaps(&raw, &times_s, max_gap_s);
 

@@ -27,16 +27,21 @@ fn run(s: &SynthTrial, o: &SynthOptions, toml: &str) -> TrialResult {
         times_s: s.times_s.clone(),
         rate_hz: o.rate_hz,
         up_axis: UpAxis::Z,
-        markers: RawMarkers {
-            labels: s.labels.clone(),
-            tracks: s.positions.clone(),
-        },
+        markers: RawMarkers::from_options(s.labels.clone(), s.positions.clone()),
         warnings: Vec::new(),
     };
     let config = Config::from_raw(&RawConfig::from_toml(toml, "t").unwrap(), "t").unwrap();
     let subject = Subject::new(o.mass_kg, o.height_m, o.sex);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
-    run_trial(&trial, &config, &subject, &table, RunOptions::default()).unwrap()
+    run_trial(
+        trial.clone(),
+        &config,
+        &subject,
+        &table,
+        RunOptions::default(),
+        1,
+    )
+    .unwrap()
 }
 
 /// Tolerance of the contact start, frames at 100 Hz. The model's heel comes down at 6 m/s^2

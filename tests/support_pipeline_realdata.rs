@@ -106,7 +106,15 @@ fn pipeline_contact_and_bos_agree_with_the_force_plates() {
     let subject = Subject::new(72.0, 1.75, Sex::Male);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
     let trial = read_trial(&dir.join("trial.csv"), &config.read_options()).unwrap();
-    let r = run_trial(&trial, &config, &subject, &table, RunOptions::default()).unwrap();
+    let r = run_trial(
+        trial.clone(),
+        &config,
+        &subject,
+        &table,
+        RunOptions::default(),
+        1,
+    )
+    .unwrap();
     let n = r.n_frames();
     let up = trial.up_axis;
     let (mut inside, mut loaded_frames) = (0usize, 0usize);

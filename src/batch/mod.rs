@@ -88,6 +88,8 @@
 //! With `--resume`, a task that was pre-empted and restarted continues where it stopped. The
 //! Parquet summary reads straight into dataframe and SQL engines.
 
+#![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
+
 pub mod html;
 pub mod manifest;
 pub mod progress;

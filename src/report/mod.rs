@@ -5,6 +5,8 @@
 //! Writers take `impl Write`; [`write_atomic`] owns the files: it writes to a temporary name
 //! in the same folder and renames, so an interrupted run never leaves a truncated file.
 
+#![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
+
 pub mod fixed;
 pub mod frames;
 pub mod html;

@@ -33,6 +33,8 @@
 //! Each file is written through a temporary name in the same folder and a rename (as
 //! [`crate::report::write_atomic`]), so an interrupted run never leaves a truncated figure.
 
+#![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
+
 mod lift;
 mod path;
 mod series;

@@ -46,96 +46,30 @@ pub struct FilledGap {
 /// Tolerance, in frames, on the gap length limit (rounding in the frame times).
 const GAP_TOLERANCE_FRAMES: f64 = 1e-6;
 
-/// Fills every interior gap of at most `max_gap_s` seconds (module doc), marker by marker.
+/// Fills every interior gap of at most `max_gap_s` seconds (module doc), marker by marker, on
+/// a copy of the raw tracks ([`fill_and_low_pass`] without a filter, on one thread).
 ///
 /// The frames are those of `times_s`: samples of a raw track beyond `times_s.len()` are ignored
 /// and a track shorter than `times_s` is missing at the frames it lacks. A `max_gap_s` that is
 /// negative or not a number fills nothing. Filled gaps come sorted by marker, then frame.
 pub fn fill_gaps(raw: &RawMarkers, times_s: &[f64], max_gap_s: f64) -> (Markers, Vec<FilledGap>) {
-    let n_frames = times_s.len();
-    let mut filled = Vec::new();
-    let mut spline = NaturalSpline::default();
-    let tracks = raw
-        .tracks
-        .iter()
-        .enumerate()
-        .map(|(marker, samples)| {
-            fill_track(
-                marker,
-                samples,
-                times_s,
-                max_gap_s,
-                &mut filled,
-                &mut spline,
-            )
-        })
-        .collect();
-    let markers = Markers {
-        labels: raw.labels.clone(),
-        tracks,
-        n_frames,
-    };
-    (markers, filled)
+    fill_and_low_pass(raw.clone(), times_s, max_gap_s, None, 1)
 }
 
-/// As [`fill_gaps`], taking the raw tracks by value: each is freed as soon as it is filled, so
-/// the raw and the filled markers are not held in full at the same time, and the markers are
-/// shared out among up to `threads` threads. The result does not depend on the thread count.
-pub fn fill_gaps_owned(
+/// Fills the gaps of the raw tracks as [`fill_gaps`] does, taking them over: each track's
+/// buffer is filled in place and becomes its longest run (no new memory for the samples but
+/// for the other runs of a track), then low-passed by `low_pass` (a section and its end pad,
+/// as [`low_pass`](super::low_pass) does it) while it is still in cache. The markers are
+/// shared out among up to `threads` threads; the result does not depend on their number.
+pub fn fill_and_low_pass(
     raw: RawMarkers,
-    times_s: &[f64],
-    max_gap_s: f64,
-    threads: usize,
-) -> (Markers, Vec<FilledGap>) {
-    let RawMarkers { labels, tracks } = raw;
-    let items: Vec<(usize, Vec<Option<[f64; 3]>>)> = tracks.into_iter().enumerate().collect();
-    let groups = super::in_groups(items, threads, |group| {
-        let mut filled = Vec::new();
-        let mut spline = NaturalSpline::default();
-        let tracks: Vec<Track> = group
-            .into_iter()
-            .map(|(marker, samples)| {
-                fill_track(
-                    marker,
-                    &samples,
-                    times_s,
-                    max_gap_s,
-                    &mut filled,
-                    &mut spline,
-                )
-            })
-            .collect();
-        (tracks, filled)
-    });
-    let mut tracks = Vec::with_capacity(labels.len());
-    let mut filled = Vec::new();
-    for (t, f) in groups {
-        tracks.extend(t);
-        filled.extend(f);
-    }
-    let markers = Markers {
-        labels,
-        tracks,
-        n_frames: times_s.len(),
-    };
-    (markers, filled)
-}
-
-/// As [`fill_gaps_owned`], on tracks held flat (`tracks[marker][frame]`, a sample missing
-/// when a coordinate is not finite), each track then low-passed by `low_pass` (a section and
-/// its end pad, as [`low_pass`](super::low_pass) does it) while it is still in cache. A
-/// track's buffer is filled in place and becomes its longest run:
-/// no new memory for the samples but for the other runs of a track. The same markers and gaps
-/// as [`fill_gaps`] on the same samples held as `Option`s.
-pub(crate) fn fill_flat(
-    labels: Vec<String>,
-    tracks: Vec<Vec<[f64; 3]>>,
     times_s: &[f64],
     max_gap_s: f64,
     low_pass: Option<(&Coefficients, usize)>,
     threads: usize,
 ) -> (Markers, Vec<FilledGap>) {
-    let items: Vec<(usize, Vec<[f64; 3]>)> = tracks.into_iter().enumerate().collect();
+    let labels = raw.labels.clone();
+    let items: Vec<(usize, Vec<[f64; 3]>)> = raw.into_tracks().into_iter().enumerate().collect();
     let groups = super::in_groups(items, threads, |group| {
         let mut filled = Vec::new();
         let mut spline = NaturalSpline::default();
@@ -175,7 +109,7 @@ pub(crate) fn fill_flat(
     (markers, filled)
 }
 
-/// [`fill_track`] on a flat track, in place (see [`fill_flat`]).
+/// Fills one flat track in place (see [`fill_and_low_pass`]).
 fn fill_flat_track(
     marker: usize,
     mut samples: Vec<[f64; 3]>,
@@ -269,18 +203,6 @@ struct Present {
     end: usize,
 }
 
-fn sample(samples: &[Option<[f64; 3]>], frame: usize) -> Option<[f64; 3]> {
-    samples
-        .get(frame)
-        .copied()
-        .flatten()
-        .filter(|p| p.iter().all(|c| c.is_finite()))
-}
-
-fn present_runs(samples: &[Option<[f64; 3]>], n_frames: usize) -> Vec<Present> {
-    runs_where(n_frames, |f| sample(samples, f).is_some())
-}
-
 /// The maximal runs of frames `0 .. n_frames` where `known` holds.
 fn runs_where(n_frames: usize, known: impl Fn(usize) -> bool) -> Vec<Present> {
     let mut runs = Vec::new();
@@ -351,74 +273,6 @@ fn is_fillable(before: Present, after: Present, times_s: &[f64], max_gap_s: f64)
     k as f64 <= max_gap_s / dt_s + GAP_TOLERANCE_FRAMES
 }
 
-fn fill_track(
-    marker: usize,
-    samples: &[Option<[f64; 3]>],
-    times_s: &[f64],
-    max_gap_s: f64,
-    filled: &mut Vec<FilledGap>,
-    spline: &mut NaturalSpline<3>,
-) -> Track {
-    let present = present_runs(samples, times_s.len());
-    let mut runs = Vec::with_capacity(present.len());
-    for stretch in stretches(&present, times_s, max_gap_s) {
-        match splined_run(stretch, samples, times_s, spline) {
-            Some(run) => {
-                filled.extend(gaps_of(marker, stretch));
-                runs.push(run);
-            }
-            None => runs.extend(stretch.iter().map(|p| measured_run(*p, samples))),
-        }
-    }
-    Track { runs }
-}
-
-fn measured_run(p: Present, samples: &[Option<[f64; 3]>]) -> Run {
-    // Every frame of `p` is present (it comes from `present_runs`); the NaN is never used.
-    Run {
-        start: p.start,
-        xyz: (p.start..p.end)
-            .map(|f| sample(samples, f).unwrap_or([f64::NAN; 3]))
-            .collect(),
-    }
-}
-
-/// One run over the whole stretch, missing frames from the natural spline through its present
-/// samples (fitted in `spline`, whose memory is reused). A stretch of a single run needs no
-/// spline and is copied. `None` if the spline cannot be built (fewer than 2 knots or knot times
-/// not increasing).
-fn splined_run(
-    stretch: &[Present],
-    samples: &[Option<[f64; 3]>],
-    times_s: &[f64],
-    spline: &mut NaturalSpline<3>,
-) -> Option<Run> {
-    let (first, last) = (stretch.first()?, stretch.last()?);
-    if stretch.len() == 1 {
-        return Some(measured_run(*first, samples));
-    }
-    let mut complete = true;
-    let points = stretch.iter().flat_map(|p| p.start..p.end).map_while(|f| {
-        match (times_s.get(f), sample(samples, f)) {
-            (Some(&t), Some(v)) => Some((t, v)),
-            _ => {
-                complete = false;
-                None
-            }
-        }
-    });
-    if !spline.refit(points) || !complete {
-        return None;
-    }
-    let xyz = (first.start..last.end)
-        .map(|f| sample(samples, f).unwrap_or_else(|| spline.eval(times_s[f])))
-        .collect();
-    Some(Run {
-        start: first.start,
-        xyz,
-    })
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -446,17 +300,15 @@ mod tests {
             .enumerate()
             .map(|(f, &ti)| (!missing.contains(&f)).then(|| cubic(ti)))
             .collect();
-        let raw = RawMarkers {
-            labels: vec!["heel".to_string()],
-            tracks: vec![track],
-        };
+        let raw = RawMarkers::from_options(vec!["heel".to_string()], vec![track]);
         (raw, t)
     }
 
     #[test]
-    fn flat_tracks_fill_as_optional_tracks_do() {
+    fn filling_and_low_passing_at_once_equals_one_after_the_other() {
         // Trial-end gaps, short and long interior gaps, a lone sample, a NaN coordinate, an
-        // empty track, a short track, repeated times (no spline): each as fill_gaps fills it.
+        // empty track, a short track, repeated times (no spline): filled and low-passed track by
+        // track on any number of threads, as filled and then low-passed.
         let n = 60;
         let mut times = times(n);
         let pattern = |k: usize| -> Vec<Option<[f64; 3]>> {
@@ -485,26 +337,13 @@ mod tests {
             if repeated_time {
                 times[25] = times[24];
             }
-            let raw = RawMarkers {
-                labels: labels.clone(),
-                tracks: tracks.clone(),
-            };
-            let flat: Vec<Vec<[f64; 3]>> = tracks
-                .iter()
-                .map(|t| t.iter().map(|p| p.unwrap_or([f64::NAN; 3])).collect())
-                .collect();
+            let raw = RawMarkers::from_options(labels.clone(), tracks.clone());
             let c = crate::signal::design(RATE_HZ, 6.0, true).unwrap();
             for threads in [1, 2, 3] {
                 let (mut want, want_gaps) = fill_gaps(&raw, &times, 0.1);
                 crate::signal::low_pass_on(&mut want, RATE_HZ, 6.0, threads).unwrap();
-                let (got, gaps) = fill_flat(
-                    labels.clone(),
-                    flat.clone(),
-                    &times,
-                    0.1,
-                    Some((&c, c.pad_len())),
-                    threads,
-                );
+                let (got, gaps) =
+                    fill_and_low_pass(raw.clone(), &times, 0.1, Some((&c, c.pad_len())), threads);
                 assert_eq!(
                     got, want,
                     "{threads} threads, repeated time {repeated_time}"
@@ -568,10 +407,7 @@ mod tests {
         let track = (0..50)
             .map(|f| (3..47).contains(&f).then(|| cubic(t[f])))
             .collect();
-        let raw = RawMarkers {
-            labels: vec!["toe".to_string()],
-            tracks: vec![track],
-        };
+        let raw = RawMarkers::from_options(vec!["toe".to_string()], vec![track]);
         let (markers, gaps) = fill_gaps(&raw, &t, 1.0);
         assert!(gaps.is_empty());
         let tr = &markers.tracks[0];
@@ -598,21 +434,11 @@ mod tests {
         }
         let labels = vec!["knee".to_string()];
         let (a, gaps_a) = fill_gaps(
-            &RawMarkers {
-                labels: labels.clone(),
-                tracks: vec![track],
-            },
+            &RawMarkers::from_options(labels.clone(), vec![track]),
             &t,
             0.1,
         );
-        let (b, _) = fill_gaps(
-            &RawMarkers {
-                labels,
-                tracks: vec![far],
-            },
-            &t,
-            0.1,
-        );
+        let (b, _) = fill_gaps(&RawMarkers::from_options(labels, vec![far]), &t, 0.1);
         assert_eq!(gaps_a.len(), 1);
         assert_eq!((gaps_a[0].start_frame, gaps_a[0].len_frames), (10, 2));
         assert_eq!(a.tracks[0].at(10), b.tracks[0].at(10));
@@ -631,10 +457,7 @@ mod tests {
             Some([1.0, 3.0, 2.0]),
             None,
         ];
-        let raw = RawMarkers {
-            labels: vec!["a".to_string()],
-            tracks: vec![track],
-        };
+        let raw = RawMarkers::from_options(vec!["a".to_string()], vec![track]);
         let (m, gaps) = fill_gaps(&raw, &t, 0.01);
         assert_eq!(gaps.len(), 1);
         let p = m.tracks[0].at(2).unwrap();
@@ -646,14 +469,14 @@ mod tests {
     #[test]
     fn odd_inputs_do_not_panic() {
         let t = times(6);
-        let raw = RawMarkers {
-            labels: vec!["a".into(), "b".into(), "c".into()],
-            tracks: vec![
+        let raw = RawMarkers::from_options(
+            vec!["a".into(), "b".into(), "c".into()],
+            vec![
                 vec![],
                 vec![Some([1.0; 3]), None, Some([f64::NAN, 0.0, 0.0]), None],
                 vec![Some([1.0; 3]); 9],
             ],
-        };
+        );
         let (m, gaps) = fill_gaps(&raw, &t, f64::NAN);
         assert!(gaps.is_empty());
         assert_eq!(m.n_frames, 6);

@@ -20,7 +20,7 @@ pub mod residual;
 pub mod spline;
 
 pub use butterworth::{design, filtfilt, low_pass, low_pass_on, Coefficients};
-pub use gapfill::{fill_gaps, fill_gaps_owned, filled_warnings, FilledGap};
+pub use gapfill::{fill_and_low_pass, fill_gaps, filled_warnings, FilledGap};
 pub use residual::{default_cutoffs, residuals, suggest, ResidualSuggestion};
 pub use spline::NaturalSpline;
 

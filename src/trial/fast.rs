@@ -1,132 +1,19 @@
-//! Fast paths of the trial reader, for the numbers and for wide files held in memory. Both give
-//! exactly what the general reader gives; they only take less time.
-//!
-//! - [`decimal`]: a cell like `-1234.56` (at most 19 digits, no exponent) is the integer of its
-//!   digits divided by a power of ten. When that integer is at most 2^53 and the power at most
-//!   10^22, both are exact `f64` values and one IEEE division rounds their quotient correctly:
-//!   the same value `str::parse::<f64>` returns (Clinger 1990, "How to read floating point
-//!   numbers accurately", the fast path). Any other text goes to `str::parse`.
-//! - [`read_wide`]: a wide file without quote characters, whose lines end in `\n` or `\r\n`, has
-//!   one record per line and one cell between commas, so its data lines can be cut into ranges
-//!   and parsed on several threads into flat tracks allocated once (`[f64; 3]` per frame, NaN
-//!   where a coordinate is missing: zeroed memory that each thread touches first in its own
-//!   range, and the layout gap filling takes over in place). Each row is read as the general
-//!   reader reads it (clock, then coordinates in metres; a point with a missing coordinate is
-//!   what the general reader reads as `None`). Anything unusual (a quote, a lone `\r`, a ragged row, a bad cell, times not
-//!   increasing, a tidy or frame-numbered file without rate) makes it step aside, and the
-//!   general reader reads the file and reports the problem with its position.
+//! The parallel reader of wide files held in memory. A wide file without quote characters,
+//! whose lines end in `\n` or `\r\n`, has one record per line and one cell between
+//! separators, so its data lines can be cut into ranges and parsed on several threads into
+//! flat tracks allocated once (`[f64; 3]` per frame, NaN where a coordinate is missing: zeroed
+//! memory that each thread touches first in its own range, and the layout gap filling takes
+//! over in place). Each row is read as the general reader reads it (clock, then coordinates in
+//! metres, with the one number parser of [`super::cells`]). Anything unusual (a quote, a lone
+//! `\r`, a ragged row, a bad cell, times not increasing) makes it step aside, and the general
+//! reader reads the rows and reports the problem with its position. It starts where the
+//! general reader's header ends, so both read the same records.
 
-use super::{
-    finish, parse_cell, parse_header, skip_prelude, Clock, FlatTrial, Header, Layout, ReadOptions,
-    Rows, TrialError,
-};
-use csv::ByteRecord;
-
-/// Powers of ten exact in `f64`.
-const POW10: [f64; 23] = [
-    1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
-    1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
-];
+use super::cells::{is_frame_number, number, parse_cell, Format};
+use super::header::{Clock, Header};
 
 /// Below this many bytes per piece a file is parsed on one thread.
-const MIN_PIECE_BYTES: usize = 1 << 20;
-
-/// `[+-]digits[.digits]` as an `f64`, when the fast path is exact (module doc); `None` for any
-/// other text, which `str::parse` then reads.
-#[inline]
-pub(super) fn decimal(text: &[u8]) -> Option<f64> {
-    let (negative, digits) = match text.first()? {
-        b'-' => (true, text.get(1..)?),
-        b'+' => (false, text.get(1..)?),
-        _ => (false, text),
-    };
-    let mut mantissa: u64 = 0;
-    let mut n_digits = 0usize;
-    let mut int_digits = 0usize;
-    let mut dot = false;
-    for &c in digits {
-        if c.is_ascii_digit() {
-            if n_digits == 19 {
-                return None;
-            }
-            mantissa = mantissa * 10 + u64::from(c - b'0');
-            n_digits += 1;
-        } else if c == b'.' && !dot {
-            dot = true;
-            int_digits = n_digits;
-        } else {
-            return None;
-        }
-    }
-    if !dot {
-        int_digits = n_digits;
-    }
-    let frac_digits = n_digits - int_digits;
-    if int_digits == 0 || (dot && frac_digits == 0) || mantissa > 1 << 53 {
-        return None;
-    }
-    let v = mantissa as f64 / POW10[frac_digits];
-    Some(if negative { -v } else { v })
-}
-
-/// Reads a wide file held in memory on up to `threads` threads, or `None` when the general
-/// reader must read it (module doc).
-pub(super) fn read_wide(
-    bytes: &[u8],
-    file: &str,
-    stem: &str,
-    opts: &ReadOptions,
-    threads: usize,
-) -> Option<Result<FlatTrial, TrialError>> {
-    read_wide_in_pieces(bytes, file, stem, opts, threads, MIN_PIECE_BYTES)
-}
-
-/// [`read_wide`] with pieces of at least `min_piece_bytes` (small in tests, to cut small files).
-fn read_wide_in_pieces(
-    bytes: &[u8],
-    file: &str,
-    stem: &str,
-    opts: &ReadOptions,
-    threads: usize,
-    min_piece_bytes: usize,
-) -> Option<Result<FlatTrial, TrialError>> {
-    if opts.rate_hz.is_some_and(|r| !(r.is_finite() && r > 0.0)) {
-        return None;
-    }
-    let (header_line, _, prelude_lines, prelude_bytes) = skip_prelude(bytes, file).ok()?;
-    if header_line.contains(&b'"') || !header_line.ends_with(b"\n") {
-        return None;
-    }
-    let mut rec = ByteRecord::new();
-    let mut rdr = csv::ReaderBuilder::new()
-        .has_headers(false)
-        .flexible(true)
-        .from_reader(header_line.as_slice());
-    if !rdr.read_byte_record(&mut rec).ok()? {
-        return None;
-    }
-    let line = prelude_lines + 1;
-    let header = parse_header(&rec, file, line).ok()?;
-    if header.clock == Clock::Frames && opts.rate_hz.is_none() {
-        return None;
-    }
-    let Layout::Wide { labels, xyz } = &header.layout else {
-        return None;
-    };
-    let data = bytes.get(usize::try_from(prelude_bytes).ok()? + header_line.len()..)?;
-    let layout = RowLayout::new(&header, xyz, opts.units.to_metres());
-    let (clock, lines, tracks) = parse_rows(data, line + 1, &layout, threads, min_piece_bytes)?;
-    if clock.is_empty() {
-        return None;
-    }
-    let rows = Rows {
-        clock,
-        lines,
-        labels: labels.clone(),
-        tracks: Vec::new(),
-    };
-    Some(finish(rows, header, file, stem, opts).map(|trial| FlatTrial { trial, tracks }))
-}
+pub(super) const MIN_PIECE_BYTES: usize = 1 << 20;
 
 /// What a cell of a data row is for.
 #[derive(Clone, Copy)]
@@ -138,15 +25,16 @@ enum Role {
 }
 
 /// How to read one data row.
-struct RowLayout {
+pub(super) struct RowLayout {
     roles: Vec<Role>,
     n_markers: usize,
     clock: Clock,
     scale: f64,
+    format: Format,
 }
 
 impl RowLayout {
-    fn new(header: &Header, xyz: &[[usize; 3]], scale: f64) -> RowLayout {
+    pub(super) fn new(header: &Header, xyz: &[[usize; 3]], scale: f64) -> RowLayout {
         let mut roles = vec![Role::Ignored; header.names.len()];
         if let Some(r) = roles.get_mut(header.clock_col) {
             *r = Role::Clock;
@@ -163,6 +51,7 @@ impl RowLayout {
             n_markers: xyz.len(),
             clock: header.clock,
             scale,
+            format: header.format,
         }
     }
 }
@@ -201,8 +90,9 @@ fn scan(text: &[u8]) -> Option<usize> {
     Some(feeds)
 }
 
-/// Clock values, line numbers and tracks of the data lines, or `None` (module doc).
-fn parse_rows(
+/// Clock values, line numbers and tracks of the data lines `data` (the first on line
+/// `first_line`), or `None` when the general reader must read them (module doc).
+pub(super) fn parse_rows(
     data: &[u8],
     first_line: u64,
     layout: &RowLayout,
@@ -211,12 +101,17 @@ fn parse_rows(
 ) -> Option<(Vec<f64>, Vec<u64>, Vec<Track>)> {
     let texts = split_lines(data, threads, min_piece_bytes);
     // Each range ends in `\n` (but the last), so a lone `\r` is lone within its range.
-    let newlines: Vec<usize> = crate::signal::in_groups(texts.clone(), texts.len(), |group| {
-        group.into_iter().map(scan).collect::<Option<Vec<usize>>>()
-    })
-    .into_iter()
-    .collect::<Option<Vec<Vec<usize>>>>()?
-    .concat();
+    let newlines: Vec<usize> = std::thread::scope(|s| {
+        let handles: Vec<_> = texts
+            .iter()
+            .skip(1)
+            .map(|&t| s.spawn(move || scan(t)))
+            .collect();
+        let first = texts.first().map(|t| scan(t));
+        std::iter::once(first.flatten())
+            .chain(handles.into_iter().map(|h| h.join().ok().flatten()))
+            .collect::<Option<Vec<usize>>>()
+    })?;
     // Lines per piece: its line feeds, and a last line without one.
     let counts: Vec<usize> = texts
         .iter()
@@ -334,9 +229,7 @@ fn parse_piece(piece: Piece, layout: &RowLayout) -> Option<usize> {
             continue;
         };
         at = next;
-        if layout.clock == Clock::Frames
-            && (time.fract() != 0.0 || time.abs() > 9.007_199_254_740_992e15)
-        {
+        if layout.clock == Clock::Frames && !is_frame_number(time) {
             return None;
         }
         if previous.is_some_and(|p| time <= p) {
@@ -368,21 +261,22 @@ fn parse_row(
     layout: &RowLayout,
     values: &mut [f64],
 ) -> Option<(f64, usize)> {
+    let format = layout.format;
     let mut time = None;
     for (k, role) in layout.roles.iter().enumerate() {
         if k > 0 {
-            if text.get(at) != Some(&b',') {
+            if text.get(at) != Some(&format.sep) {
                 return None;
             }
             at += 1;
         }
         let (value, end) = match role {
-            Role::Ignored => (None, cell_end(text, at)),
-            _ => match number(text, at) {
+            Role::Ignored => (None, cell_end(text, at, format.sep)),
+            _ => match number(text, at, format) {
                 Some((v, end)) => (Some(v), end),
                 None => {
-                    let end = cell_end(text, at);
-                    (parse_cell(&text[at..end]).ok()?, end)
+                    let end = cell_end(text, at, format.sep);
+                    (parse_cell(&text[at..end], format).ok()?, end)
                 }
             },
         };
@@ -403,61 +297,13 @@ fn parse_row(
     Some((time?, next))
 }
 
-/// The offset of the comma or line end that closes the cell starting at `at`.
+/// The offset of the separator or line end that closes the cell starting at `at`.
 #[inline]
-fn cell_end(text: &[u8], at: usize) -> usize {
+fn cell_end(text: &[u8], at: usize, sep: u8) -> usize {
     text[at..]
         .iter()
-        .position(|&b| matches!(b, b',' | b'\n' | b'\r'))
+        .position(|&b| b == sep || b == b'\n' || b == b'\r')
         .map_or(text.len(), |p| at + p)
-}
-
-/// A cell `-?digits[.digits]` starting at `at` and closed by a comma, a line end or the end of
-/// the text, read as [`decimal`] reads it (exact), and the offset of its end; `None` for any
-/// other cell.
-#[inline]
-fn number(text: &[u8], at: usize) -> Option<(f64, usize)> {
-    let mut i = at;
-    let negative = text.get(i) == Some(&b'-');
-    if negative {
-        i += 1;
-    }
-    let mut mantissa: u64 = 0;
-    let int_start = i;
-    while let Some(d) = text
-        .get(i)
-        .map(|b| b.wrapping_sub(b'0'))
-        .filter(|d| *d <= 9)
-    {
-        mantissa = mantissa.wrapping_mul(10).wrapping_add(u64::from(d));
-        i += 1;
-    }
-    let int_digits = i - int_start;
-    let mut frac_digits = 0;
-    if text.get(i) == Some(&b'.') {
-        i += 1;
-        let frac_start = i;
-        while let Some(d) = text
-            .get(i)
-            .map(|b| b.wrapping_sub(b'0'))
-            .filter(|d| *d <= 9)
-        {
-            mantissa = mantissa.wrapping_mul(10).wrapping_add(u64::from(d));
-            i += 1;
-        }
-        frac_digits = i - frac_start;
-        if frac_digits == 0 {
-            return None;
-        }
-    }
-    let closed = matches!(text.get(i), None | Some(b',' | b'\n' | b'\r'));
-    // At most 19 digits: the mantissa did not wrap.
-    if !closed || int_digits == 0 || int_digits + frac_digits > 19 || mantissa > 1 << 53 {
-        return None;
-    }
-    let v = mantissa as f64 / POW10[frac_digits];
-    // The sign bit set without a branch (signs of coordinates are hard to predict).
-    Some((f64::from_bits(v.to_bits() | u64::from(negative) << 63), i))
 }
 
 /// Cuts the data into up to `threads` ranges of whole lines (each but the last ends with `\n`),
@@ -496,133 +342,6 @@ fn has_lone_cr(data: &[u8]) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::trial::Trial;
-
-    fn std_parse(text: &str) -> Option<f64> {
-        text.parse().ok()
-    }
-
-    #[test]
-    fn decimal_agrees_with_std_parse() {
-        for text in [
-            "0",
-            "-0",
-            "-0.00",
-            "1234.56",
-            "-1234.56",
-            "+7.5",
-            "0.010000",
-            "9007199254740992",
-            "9007199254740993",
-            "0.1",
-            "1.7976931348623157",
-            "123456789012345678",
-            "5.0e3",
-            "5.",
-            ".5",
-            "-",
-            "+",
-            "",
-            "1.2.3",
-            "1,5",
-            "nan",
-            "inf",
-            "12345678901234567890",
-            "0.00000000000000000000001",
-            "0.0000000000000000000001",
-        ] {
-            if let Some(v) = decimal(text.as_bytes()) {
-                let want = std_parse(text).unwrap_or(f64::NAN);
-                assert_eq!(v.to_bits(), want.to_bits(), "{text}");
-            }
-        }
-        assert_eq!(decimal(b"5."), None);
-        assert_eq!(decimal(b"1e3"), None);
-        assert_eq!(decimal(b"9007199254740993"), None); // above 2^53: std reads it
-        assert_eq!(decimal(b"-1234.56"), Some(-1234.56));
-    }
-
-    #[test]
-    fn decimal_agrees_with_std_on_random_cells() {
-        // xorshift64* (Vigna 2016): random digit strings with up to 19 digits and a point.
-        let mut s = 0x2545_f491_4f6c_dd1du64;
-        let mut next = || {
-            s ^= s >> 12;
-            s ^= s << 25;
-            s ^= s >> 27;
-            s.wrapping_mul(0x2545_f491_4f6c_dd1d)
-        };
-        for _ in 0..200_000 {
-            let n_digits = 1 + (next() % 19) as usize;
-            let point = (next() % (n_digits as u64 + 1)) as usize;
-            let mut text = String::new();
-            if next() % 2 == 0 {
-                text.push('-');
-            }
-            for i in 0..n_digits {
-                if i == point && i > 0 {
-                    text.push('.');
-                }
-                text.push(char::from(b'0' + (next() % 10) as u8));
-            }
-            let want = std_parse(&text).unwrap_or(f64::NAN);
-            if let Some(v) = decimal(text.as_bytes()) {
-                assert_eq!(v.to_bits(), want.to_bits(), "{text}");
-            }
-        }
-    }
-
-    #[test]
-    fn cells_are_read_as_decimal_reads_them() {
-        // xorshift64 (Marsaglia 2003): cells of 0 to 25 digits with a point and a sign, closed
-        // by a comma, a line end, the end of the text, or a byte that is not a closer.
-        let mut s = 0x853c_49e6_748f_ea9bu64;
-        let mut next = || {
-            s ^= s << 13;
-            s ^= s >> 7;
-            s ^= s << 17;
-            s
-        };
-        for _ in 0..200_000 {
-            let mut cell = String::new();
-            if next() % 3 == 0 {
-                cell.push('-');
-            }
-            let n_int = (next() % 14) as usize;
-            let n_frac = (next() % 12) as usize;
-            for _ in 0..n_int {
-                cell.push(char::from(b'0' + (next() % 10) as u8));
-            }
-            if next() % 4 != 0 {
-                cell.push('.');
-                for _ in 0..n_frac {
-                    cell.push(char::from(b'0' + (next() % 10) as u8));
-                }
-            }
-            let closer = [",", "\n", "\r\n", "", "x", "/", ":"][(next() % 7) as usize];
-            let pad = (next() % 9) as usize;
-            // Digits after the closer, but for a cell that ends the text.
-            let after = if closer.is_empty() {
-                0
-            } else {
-                (next() % 3) as usize
-            };
-            let text = format!("{}{cell}{closer}{}", ",".repeat(pad), "9".repeat(after));
-            let got = number(text.as_bytes(), pad);
-            let closes = matches!(closer, "," | "\n" | "\r\n") || text.len() == pad + cell.len();
-            let want = if closes {
-                decimal(cell.as_bytes())
-            } else {
-                None
-            };
-            // `decimal` also takes a leading `+`, which a cell here never has.
-            assert_eq!(
-                got.map(|(v, end)| (v.to_bits(), end)),
-                want.map(|v| (v.to_bits(), pad + cell.len())),
-                "{text:?}"
-            );
-        }
-    }
 
     #[test]
     fn lines_are_split_after_line_feeds() {
@@ -640,72 +359,6 @@ mod tests {
             split_lines(b"a\nb\nc\nd", 4, 1),
             [&b"a\n"[..], b"b\n", b"c\n", b"d"]
         );
-    }
-
-    /// The general reader's result, for comparison: the trial, or the error's message.
-    fn general(bytes: &[u8], opts: &ReadOptions) -> Result<Trial, String> {
-        super::super::read_impl(bytes, "t.csv", "t", opts, None).map_err(|e| e.to_string())
-    }
-
-    fn in_pieces(
-        bytes: &[u8],
-        opts: &ReadOptions,
-        threads: usize,
-    ) -> Option<Result<Trial, String>> {
-        read_wide_in_pieces(bytes, "t.csv", "t", opts, threads, 1)
-            .map(|r| r.map(FlatTrial::into_trial).map_err(|e| e.to_string()))
-    }
-
-    #[test]
-    fn pieces_give_the_general_readers_trial_or_step_aside() {
-        let base = "# comment\n\ntime,a_x,a_y,a_z,note,b_x,b_y,b_z\n\
-                    0.00,1,2,3,x,4,5,6\n0.01,1.5,,3,y,4,5,6\n0.02,NaN,2,3,,4.25,5,6\n\
-                    0.03,1,2,3,z,-4,5,6e1\n0.04, 7 ,2,3,,4,5,6\n";
-        let crlf = base.replace('\n', "\r\n");
-        let blank = base.replace("0.02", "\n\n0.02").replace("0.04", "  \n0.04");
-        let no_end = base.trim_end().to_string();
-        let frames = base.replace("time", "frame").replace("0.0", "");
-        let bom = format!("\u{feff}{base}");
-        let millis = "time,a_x,a_y,a_z\n0.000,1,2,3\n0.007,1,2,3\n0.013,1,2,3\n0.020,1,2,3\n";
-        let opts = ReadOptions::default();
-        let rated = ReadOptions {
-            rate_hz: Some(100.0),
-            ..ReadOptions::default()
-        };
-        for text in [base, &crlf, &blank, &no_end, &frames, &bom, millis] {
-            for o in [&opts, &rated] {
-                for threads in 1..=4 {
-                    if let Some(fast) = in_pieces(text.as_bytes(), o, threads) {
-                        assert_eq!(
-                            fast,
-                            general(text.as_bytes(), o),
-                            "{text:?}, {threads} threads"
-                        );
-                    }
-                }
-            }
-        }
-        // These files go through the fast path (none steps aside).
-        for text in [base, &crlf, &blank, &no_end, &bom] {
-            assert!(
-                in_pieces(text.as_bytes(), &opts, 3).is_some_and(|r| r.is_ok()),
-                "{text:?}"
-            );
-        }
-        assert!(in_pieces(frames.as_bytes(), &rated, 2).is_some());
-        // Problems step aside, for the general reader to report with their positions.
-        for bad in [
-            base.replace("1.5", "1.5.1"),
-            base.replace("0.03", "0.01"),
-            base.replace(",y,", ",\"y\","),
-            base.replace("4.25,", ""),
-            base.replace("0.01,", "0.01\r,"),
-            base.replace("6e1", "inf"),
-            base.replace("0.02", ""),
-        ] {
-            assert!(in_pieces(bad.as_bytes(), &opts, 2).is_none(), "{bad:?}");
-        }
-        assert!(in_pieces(frames.as_bytes(), &opts, 2).is_none());
     }
 
     #[test]

@@ -42,10 +42,10 @@ pub fn static_trial(points: &[(&str, [f64; 3])], frames: usize) -> Trial {
         times_s: (0..frames).map(|i| i as f64 / 100.0).collect(),
         rate_hz: 100.0,
         up_axis: UpAxis::Z,
-        markers: RawMarkers {
-            labels: points.iter().map(|(n, _)| n.to_string()).collect(),
-            tracks: points.iter().map(|(_, p)| vec![Some(*p); frames]).collect(),
-        },
+        markers: RawMarkers::new(
+            points.iter().map(|(n, _)| n.to_string()).collect(),
+            points.iter().map(|(_, p)| vec![*p; frames]).collect(),
+        ),
         warnings: Vec::new(),
     }
 }
