@@ -293,10 +293,12 @@ fn subject(args: &SubjectArgs) -> Result<Subject> {
 
 fn trial(a: &TrialArgs, ui: &Ui) -> Result<ExitCode> {
     let setup = Setup::new(config(&a.setup)?, subject(&a.subject)?)?;
-    let stem = a
-        .trial
-        .file_stem()
-        .map_or("trial".into(), |s| s.to_string_lossy().into_owned());
+    // The output folder is a plain name under --out, whatever the file is called (`..csv`).
+    let stem = gravline::batch::sanitize_id(
+        &a.trial
+            .file_stem()
+            .map_or(String::new(), |s| s.to_string_lossy().into_owned()),
+    );
     let dir = a.out.join(&stem);
     let options = OutputOptions {
         run: RunOptions {

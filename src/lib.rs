@@ -48,5 +48,7 @@ pub mod support;
 pub mod synth;
 /// Reading trial files.
 pub mod trial;
+/// Bounded reading of small text inputs; short one-line quotes of input in messages.
+pub mod textio;
 /// Non-fatal findings kept in the summary.
 pub mod warning;

@@ -88,11 +88,16 @@
 //! With `--resume`, a task that was pre-empted and restarted continues where it stopped. The
 //! Parquet summary reads straight into dataframe and SQL engines.
 
+pub mod confine;
 pub mod manifest;
 pub mod progress;
+pub mod resume;
 pub mod table;
 
-pub use manifest::{read_directory, read_manifest, DirectoryDefaults, Job, ManifestError, Plan};
+pub use confine::{confined_id, sanitize_id, trial_dir};
+pub use manifest::{
+    read_directory, read_manifest, read_manifest_bytes, DirectoryDefaults, Job, ManifestError, Plan,
+};
 pub use progress::{Progress, ProgressMode, TrialOutcome};
 pub use table::{Row, RowKey, StoredSummary, TableError};
 
@@ -290,6 +295,8 @@ fn run_job(
         condition: job.condition.as_deref(),
     };
     let fail = |message: String| {
+        // One short line, whatever the input put into the message.
+        let message = crate::textio::one_line(&message, crate::textio::MESSAGE_CHARS);
         let row = Row::error(&key, &message);
         (
             row,
@@ -305,11 +312,21 @@ fn run_job(
         Ok(s) => s,
         Err(e) => return fail(e.to_string()),
     };
-    let dir = trials.join(&job.id);
+    // Nothing is written outside `<out>/trials/<id>/`.
+    let dir = match trial_dir(trials, &job.id) {
+        Ok(dir) => dir,
+        Err(message) => return fail(message),
+    };
     let json = dir.join("summary.json");
+    // A FIFO or a device (`/dev/zero`) named as a trial would block or never end.
+    if let Err(e) = crate::textio::require_regular(&job.path) {
+        return fail(format!("cannot read {}: {e}", job.path.display()));
+    }
     if options.resume {
         if let Some(stored) = reusable(&job.path, &setup, &json) {
-            return (Row::ok(&key, &stored), TrialOutcome::Skipped, None);
+            if resume::outputs_complete(&dir, &stored, &options.output.plots) {
+                return (Row::ok(&key, &stored), TrialOutcome::Skipped, None);
+            }
         }
     }
     clear_stale(&dir);
@@ -387,6 +404,7 @@ pub fn write_summary(
     rows: &[Row],
 ) -> Result<Vec<PathBuf>, TableError> {
     let names = summary_names(shard);
+    resume::clear_batch_temporaries(out_dir, &names);
     let paths: Vec<PathBuf> = names.iter().map(|n| out_dir.join(n)).collect();
     let err = |p: &Path| {
         let path = p.display().to_string();
@@ -419,6 +437,7 @@ pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> 
             let n = row.row().ok_or_else(|| {
                 BatchError::Merge(format!("{}: a row without a `row` number", path.display()))
             })?;
+            check_merged_row(path, n, &row)?;
             rows.push((n, k, row));
         }
     }
@@ -458,6 +477,29 @@ pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> 
         rows,
         files,
     })
+}
+
+/// A shard row that no batch writes: a row number below 1, a status other than `ok` and
+/// `error`, an id that is not a plain folder name.
+fn check_merged_row(path: &Path, n: i64, row: &Row) -> Result<(), BatchError> {
+    let bad = |what: String| {
+        BatchError::Merge(format!(
+            "{}: row {n}: {what}; not a gravline batch summary, or corrupted: write the shard again",
+            path.display()
+        ))
+    };
+    if n < 1 {
+        return Err(bad("a row number below 1".into()));
+    }
+    let status = row.get("status").and_then(table::Cell::as_str);
+    if !matches!(status, Some(table::STATUS_OK | table::STATUS_ERROR)) {
+        return Err(bad(format!(
+            "status {}",
+            crate::textio::quote(status.unwrap_or_default())
+        )));
+    }
+    let id = row.get("id").and_then(table::Cell::as_str).unwrap_or_default();
+    confined_id(id).map_err(bad)
 }
 
 #[cfg(test)]
