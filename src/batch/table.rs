@@ -516,6 +516,23 @@ pub const ROWS_KEY: &str = "gravline.rows";
 /// Parquet key-value metadata key: [`rows_sha256`] of the rows written.
 pub const ROWS_SHA256_KEY: &str = "gravline.rows_sha256";
 
+/// Parquet key-value metadata key: SHA-256 of the file's bytes before its footer (the magic
+/// number, then every page with its header), checked before any page is decoded.
+pub const DATA_SHA256_KEY: &str = "gravline.data_sha256";
+
+/// The bytes of a Parquet file before its footer: `PAR1`, the pages, up to the footer whose
+/// length the last 8 bytes give (`<length u32 LE>PAR1`). `None` when the file is not framed
+/// that way.
+pub fn parquet_data_region(bytes: &[u8]) -> Option<&[u8]> {
+    let n = bytes.len();
+    if n < 12 || &bytes[..4] != b"PAR1" || &bytes[n - 4..] != b"PAR1" {
+        return None;
+    }
+    let footer = u32::from_le_bytes(bytes[n - 8..n - 4].try_into().ok()?) as usize;
+    let end = n.checked_sub(8)?.checked_sub(footer)?;
+    (end >= 4).then(|| &bytes[..end])
+}
+
 /// SHA-256 (lowercase hex) of a table's rows as [`write_csv`] writes them (header included):
 /// recorded in a Parquet summary when it is written and checked when it is read, so a
 /// corrupted file that still decodes is caught. CSV numbers round-trip exactly, so the digest
@@ -528,7 +545,9 @@ pub fn rows_sha256(rows: &[Row]) -> String {
 }
 
 /// Writes the table as Parquet with polars (Int64, Float64 and String columns, nulls where
-/// missing), with the row count and [`rows_sha256`] in the file's key-value metadata.
+/// missing), with the row count, [`rows_sha256`] and the SHA-256 of the pages
+/// ([`DATA_SHA256_KEY`]) in the file's key-value metadata. The pages do not depend on that
+/// metadata, so the file is encoded once to learn their digest and once more with it.
 pub fn write_parquet(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
     use polars::prelude::*;
     let io = |e: PolarsError| std::io::Error::other(e.to_string());
@@ -564,15 +583,34 @@ pub fn write_parquet(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
         })
         .collect();
     let mut df = DataFrame::new(rows.len(), series).map_err(io)?;
-    let metadata = KeyValueMetadata::from_static(vec![
-        (ROWS_KEY.to_string(), rows.len().to_string()),
-        (ROWS_SHA256_KEY.to_string(), rows_sha256(rows)),
-    ]);
-    ParquetWriter::new(w)
-        .with_key_value_metadata(Some(metadata))
-        .finish(&mut df)
-        .map_err(io)?;
-    Ok(())
+    let rows_digest = rows_sha256(rows);
+    let mut encode = |data_digest: String| -> std::io::Result<Vec<u8>> {
+        let metadata = KeyValueMetadata::from_static(vec![
+            (ROWS_KEY.to_string(), rows.len().to_string()),
+            (ROWS_SHA256_KEY.to_string(), rows_digest.clone()),
+            (DATA_SHA256_KEY.to_string(), data_digest),
+        ]);
+        let mut bytes = Vec::new();
+        ParquetWriter::new(&mut bytes)
+            .with_key_value_metadata(Some(metadata))
+            .finish(&mut df)
+            .map_err(io)?;
+        Ok(bytes)
+    };
+    let data_digest = |bytes: &[u8]| {
+        parquet_data_region(bytes)
+            .map(crate::report::sha256_hex)
+            .ok_or_else(|| std::io::Error::other("the Parquet writer gave an unframed file"))
+    };
+    let first = encode(String::new())?;
+    let digest = data_digest(&first)?;
+    let bytes = encode(digest.clone())?;
+    if data_digest(&bytes)? != digest {
+        return Err(std::io::Error::other(
+            "the Parquet writer encoded the same pages differently twice",
+        ));
+    }
+    w.write_all(&bytes)
 }
 
 /// Reads a summary table written by [`write_parquet`], checking it on the way: a regular file
@@ -628,11 +666,23 @@ fn decode_parquet(path: &Path, bytes: &[u8]) -> Result<Vec<Row>, TableError> {
             .and_then(|kv| kv.iter().find(|k| k.key == key))
             .and_then(|k| k.value.clone())
     };
-    let (Some(count), Some(digest)) = (value(ROWS_KEY), value(ROWS_SHA256_KEY)) else {
+    let (Some(count), Some(digest), Some(data_digest)) = (
+        value(ROWS_KEY),
+        value(ROWS_SHA256_KEY),
+        value(DATA_SHA256_KEY),
+    ) else {
         return Err(corrupt(format!(
-            "no `{ROWS_KEY}` and `{ROWS_SHA256_KEY}` in its metadata"
+            "no `{ROWS_KEY}`, `{ROWS_SHA256_KEY}` and `{DATA_SHA256_KEY}` in its metadata"
         )));
     };
+    // The pages are checked before they are decoded: a corrupted count in a page header would
+    // otherwise size an allocation.
+    let data = parquet_data_region(bytes).ok_or_else(|| corrupt("no Parquet framing".into()))?;
+    if crate::report::sha256_hex(data) != data_digest {
+        return Err(corrupt(
+            "its pages do not match the checksum recorded when it was written".into(),
+        ));
+    }
     let count: usize = count
         .parse()
         .map_err(|_| corrupt(format!("`{ROWS_KEY}` is {}", crate::textio::quote(&count))))?;
