@@ -31,11 +31,18 @@ pub fn config(data: &[u8]) {
         return;
     };
     match RawConfig::from_toml(text, "c.toml") {
-        Ok(raw) => {
-            if let Err(e) = Config::from_raw(&raw, "c.toml") {
-                one_line("config", &e.to_string());
+        Ok(raw) => match Config::from_raw(&raw, "c.toml") {
+            // The table name is checked where the setup loads it; names with a separator
+            // would read files, which is not the configuration reader's job.
+            Ok(config) if !config.table.contains(['/', '\\']) => {
+                let sex = gravline::anthropometry::Sex::Male;
+                if let Err(e) = gravline::anthropometry::SegmentTable::load(&config.table, sex) {
+                    one_line("config table", &e.to_string());
+                }
             }
-        }
+            Ok(_) => {}
+            Err(e) => one_line("config", &e.to_string()),
+        },
         Err(e) => one_line("config", &e.to_string()),
     }
 }
