@@ -11,11 +11,10 @@ use std::path::Path;
 /// A configuration or subject file that cannot be used.
 #[derive(Debug, thiserror::Error)]
 pub enum ConfigError {
-    #[error("cannot read {path}: {source}")]
-    Io {
-        path: String,
-        source: std::io::Error,
-    },
+    // `error`, not `source`: the message already holds it, and an error chain printed with
+    // `{:#}` would repeat it.
+    #[error("cannot read {path}: {error}")]
+    Io { path: String, error: std::io::Error },
     #[error("{path}: {message}")]
     Toml { path: String, message: String },
     #[error("{path}: {message}")]
@@ -153,7 +152,7 @@ fn read(path: &Path) -> Result<String, ConfigError> {
     crate::textio::read_regular_text(path, crate::textio::MAX_CONFIG_BYTES).map_err(|source| {
         ConfigError::Io {
             path: path.display().to_string(),
-            source,
+            error: source,
         }
     })
 }

@@ -46,9 +46,9 @@ pub mod signal;
 pub mod support;
 /// Synthetic trials for the demo, the tests and the benchmarks.
 pub mod synth;
-/// Reading trial files.
-pub mod trial;
 /// Bounded reading of small text inputs; short one-line quotes of input in messages.
 pub mod textio;
+/// Reading trial files.
+pub mod trial;
 /// Non-fatal findings kept in the summary.
 pub mod warning;

@@ -118,9 +118,9 @@ fn too_large(max_bytes: u64) -> io::Error {
 }
 
 fn bytes_text(n: u64) -> String {
-    if n >= 1 << 30 && n % (1 << 30) == 0 {
+    if n >= 1 << 30 && n.is_multiple_of(1 << 30) {
         format!("{} GiB", n >> 30)
-    } else if n >= 1 << 20 && n % (1 << 20) == 0 {
+    } else if n >= 1 << 20 && n.is_multiple_of(1 << 20) {
         format!("{} MiB", n >> 20)
     } else {
         format!("{n} bytes")

@@ -61,7 +61,8 @@ fn hostile_trial_names_stay_in_their_own_folders() {
         write(&data.join(name), &standing_csv(60, k as u64, None));
         // The CSV writer quotes the cell holding a line break.
         let mut w = csv::Writer::from_writer(Vec::new());
-        w.write_record([*name, "s1", "70", "1.75", "male", ""]).unwrap();
+        w.write_record([*name, "s1", "70", "1.75", "male", ""])
+            .unwrap();
         manifest.push_str(std::str::from_utf8(&w.into_inner().unwrap()).unwrap());
     }
     // A trial in a sub-folder reached through `..`: its id is still its plain stem.
@@ -111,7 +112,10 @@ fn hostile_trial_names_stay_in_their_own_folders() {
                 && files.contains(&PathBuf::from("frames.csv")),
             "{id}: {files:?}"
         );
-        assert!(files.iter().all(|f| f.components().count() == 1), "{files:?}");
+        assert!(
+            files.iter().all(|f| f.components().count() == 1),
+            "{files:?}"
+        );
     }
     let rows = csv_maps(&out.join("summary.csv"));
     assert_eq!(rows.len(), names.len() + 1);
@@ -193,9 +197,24 @@ fn pipes_as_manifest_configuration_subject_or_table_are_refused_without_blocking
     let subject = ["--mass-kg", "70", "--height-m", "1.75", "--sex", "male"];
     let runs: Vec<Vec<std::ffi::OsString>> = vec![
         vec!["batch".into(), pipe.clone().into()],
-        vec!["trial".into(), trial.clone().into(), "--config".into(), pipe.clone().into()],
-        vec!["trial".into(), trial.clone().into(), "--subject".into(), pipe.clone().into()],
-        vec!["trial".into(), trial.clone().into(), "--table".into(), pipe.clone().into()],
+        vec![
+            "trial".into(),
+            trial.clone().into(),
+            "--config".into(),
+            pipe.clone().into(),
+        ],
+        vec![
+            "trial".into(),
+            trial.clone().into(),
+            "--subject".into(),
+            pipe.clone().into(),
+        ],
+        vec![
+            "trial".into(),
+            trial.clone().into(),
+            "--table".into(),
+            pipe.clone().into(),
+        ],
     ];
     for (k, args) in runs.into_iter().enumerate() {
         let mut cmd = gravline();
@@ -237,7 +256,9 @@ fn a_device_named_in_a_manifest_fails_its_row_only() {
     assert_eq!(output.status.code(), Some(1), "{output:?}");
     let rows = csv_maps(&out.join("summary.csv"));
     assert_eq!(
-        rows.iter().map(|r| r["status"].as_str()).collect::<Vec<_>>(),
+        rows.iter()
+            .map(|r| r["status"].as_str())
+            .collect::<Vec<_>>(),
         ["error", "ok", "error"]
     );
     for r in [&rows[0], &rows[2]] {
@@ -261,7 +282,15 @@ fn a_configuration_too_large_to_be_one_is_refused_by_its_size() {
     let trial = dir.path().join("t.csv");
     write(&trial, &standing_csv(60, 1, None));
     let output = gravline()
-        .args(["trial", "--mass-kg", "70", "--height-m", "1.75", "--sex", "male"])
+        .args([
+            "trial",
+            "--mass-kg",
+            "70",
+            "--height-m",
+            "1.75",
+            "--sex",
+            "male",
+        ])
         .arg(&trial)
         .arg("--config")
         .arg(&config)
@@ -271,7 +300,10 @@ fn a_configuration_too_large_to_be_one_is_refused_by_its_size() {
         .unwrap();
     assert_eq!(output.status.code(), Some(2));
     let err = short_stderr(&output, 1);
-    assert!(err.contains("big.toml") && err.contains("larger than 4 MiB"), "{err}");
+    assert!(
+        err.contains("big.toml") && err.contains("larger than 4 MiB"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -310,7 +342,10 @@ fn input_echoed_in_row_errors_is_short_and_on_one_line() {
     assert_eq!(output.status.code(), Some(1), "{output:?}");
     // Two rows fail: each message is one line on stderr and one row in the summary.
     let err = short_stderr(&output, 10);
-    assert!(err.lines().any(|l| l.contains("unknown table `xxx")), "{err}");
+    assert!(
+        err.lines().any(|l| l.contains("unknown table `xxx")),
+        "{err}"
+    );
     let text = std::fs::read_to_string(out.join("summary.csv")).unwrap();
     assert_eq!(text.lines().count(), 4, "one line per row:\n{text}");
     let rows = csv_maps(&out.join("summary.csv"));
@@ -333,10 +368,18 @@ fn a_cutoff_below_the_floor_is_refused_with_the_key() {
     let config = dir.path().join("c.toml");
     write(&config, "[filter]\ncutoff_hz = 0.001\n");
     let base = |cmd: &mut assert_cmd::Command| {
-        cmd.args(["trial", "--mass-kg", "70", "--height-m", "1.75", "--sex", "male"])
-            .arg(&trial)
-            .arg("--out")
-            .arg(dir.path().join("out"));
+        cmd.args([
+            "trial",
+            "--mass-kg",
+            "70",
+            "--height-m",
+            "1.75",
+            "--sex",
+            "male",
+        ])
+        .arg(&trial)
+        .arg("--out")
+        .arg(dir.path().join("out"));
     };
     let mut by_file = gravline();
     base(&mut by_file);

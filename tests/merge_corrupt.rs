@@ -60,7 +60,10 @@ fn bit_flipped_shards_are_refused_or_read_unchanged_never_a_panic() {
         std::fs::write(&flipped, &bytes).unwrap();
         match read_parquet(&flipped) {
             Ok(back) => {
-                assert_eq!(back, rows, "byte {byte} bit {bit}: read into a different table");
+                assert_eq!(
+                    back, rows,
+                    "byte {byte} bit {bit}: read into a different table"
+                );
                 same += 1;
             }
             Err(e) => {
@@ -78,7 +81,10 @@ fn bit_flipped_shards_are_refused_or_read_unchanged_never_a_panic() {
         n - pages,
         positions.len()
     );
-    assert!(refused > positions.len() / 2, "{refused} refused, {same} read unchanged");
+    assert!(
+        refused > positions.len() / 2,
+        "{refused} refused, {same} read unchanged"
+    );
 }
 
 #[test]
@@ -87,7 +93,9 @@ fn merge_of_a_corrupted_shard_is_a_located_one_line_error() {
     let path = shard(dir.path());
     let mut bytes = std::fs::read(&path).unwrap();
     // A flip in the middle of the pages.
-    let pages = gravline::batch::table::parquet_data_region(&bytes).unwrap().len();
+    let pages = gravline::batch::table::parquet_data_region(&bytes)
+        .unwrap()
+        .len();
     bytes[pages / 2] ^= 0x10;
     std::fs::write(&path, &bytes).unwrap();
     let output = gravline()
@@ -118,5 +126,8 @@ fn a_shard_without_its_checksum_is_refused() {
         .finish(&mut df)
         .unwrap();
     let e = read_parquet(&bare).unwrap_err().to_string();
-    assert!(e.contains("bare.parquet") && e.contains("gravline.rows"), "{e}");
+    assert!(
+        e.contains("bare.parquet") && e.contains("gravline.rows"),
+        "{e}"
+    );
 }

@@ -199,11 +199,10 @@ pub enum TableError {
     /// `name` is quoted for the message ([`crate::textio::quote`]).
     #[error("unknown table {name}: built-in tables are de-leva-1996 and dempster-winter, or give the path of a table file")]
     Unknown { name: String },
-    #[error("cannot read table file {path}: {source}")]
-    Io {
-        path: String,
-        source: std::io::Error,
-    },
+    // `error`, not `source`: the message already holds it, and an error chain printed with
+    // `{:#}` would repeat it.
+    #[error("cannot read table file {path}: {error}")]
+    Io { path: String, error: std::io::Error },
     #[error("table {table} line {line}: {message}")]
     Row {
         table: String,
@@ -268,11 +267,12 @@ impl SegmentTable {
             });
         }
         // A regular file of bounded size: a FIFO or a device such as /dev/zero is refused.
-        let text = crate::textio::read_regular_text(path, crate::textio::MAX_TABLE_BYTES)
-            .map_err(|source| TableError::Io {
+        let text = crate::textio::read_regular_text(path, crate::textio::MAX_TABLE_BYTES).map_err(
+            |error| TableError::Io {
                 path: path.display().to_string(),
-                source,
-            })?;
+                error,
+            },
+        )?;
         let label = path.display().to_string();
         SegmentTable::parse(&text, &label, "as given in the file", &label)
     }

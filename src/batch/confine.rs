@@ -51,7 +51,11 @@ pub fn sanitize_id(stem: &str) -> String {
         }
     }
     let mut id: String = id.into_iter().collect();
-    let base = id.split('.').next().unwrap_or_default().to_ascii_lowercase();
+    let base = id
+        .split('.')
+        .next()
+        .unwrap_or_default()
+        .to_ascii_lowercase();
     if RESERVED.contains(&base.as_str()) {
         id.insert(0, '_');
     }

@@ -41,11 +41,10 @@ pub const SUBJECTS_FILE: &str = "subjects.csv";
 /// A problem that stops the whole batch before any trial runs.
 #[derive(Debug, thiserror::Error)]
 pub enum ManifestError {
-    #[error("cannot read {path}: {source}")]
-    Io {
-        path: String,
-        source: std::io::Error,
-    },
+    // `error`, not `source`: the message already holds it, and an error chain printed with
+    // `{:#}` would repeat it.
+    #[error("cannot read {path}: {error}")]
+    Io { path: String, error: std::io::Error },
     #[error("{path}: {message}")]
     Csv { path: String, message: String },
     #[error("{path}: missing column(s) {missing}; a manifest needs {needed}")]
@@ -200,12 +199,13 @@ struct Table {
 /// [`crate::textio::MAX_MANIFEST_BYTES`] (a FIFO or a device such as `/dev/zero` is refused).
 fn read_table(path: &Path) -> Result<Table, ManifestError> {
     let shown = path.display().to_string();
-    let bytes = crate::textio::read_regular(path, crate::textio::MAX_MANIFEST_BYTES).map_err(
-        |source| ManifestError::Io {
-            path: shown.clone(),
-            source,
-        },
-    )?;
+    let bytes =
+        crate::textio::read_regular(path, crate::textio::MAX_MANIFEST_BYTES).map_err(|error| {
+            ManifestError::Io {
+                path: shown.clone(),
+                error,
+            }
+        })?;
     parse_table(&bytes, shown)
 }
 
@@ -221,7 +221,10 @@ fn parse_table(bytes: &[u8], shown: String) -> Result<Table, ManifestError> {
             .map_or(String::new(), |p| format!("line {}: ", p.line()));
         ManifestError::Csv {
             path: shown.clone(),
-            message: format!("{at}{}", crate::textio::one_line(&e.to_string(), crate::textio::MESSAGE_CHARS)),
+            message: format!(
+                "{at}{}",
+                crate::textio::one_line(&e.to_string(), crate::textio::MESSAGE_CHARS)
+            ),
         }
     };
     let header_names: Vec<String> = reader
@@ -403,15 +406,15 @@ pub fn read_directory(
         same(dir, out_dir)
             && (name == "summary.csv" || name == "groups.csv" || is_shard_summary(name))
     };
-    let entries = std::fs::read_dir(dir).map_err(|source| ManifestError::Io {
+    let entries = std::fs::read_dir(dir).map_err(|error| ManifestError::Io {
         path: shown.clone(),
-        source,
+        error,
     })?;
     let mut names = Vec::new();
     for entry in entries {
-        let entry = entry.map_err(|source| ManifestError::Io {
+        let entry = entry.map_err(|error| ManifestError::Io {
             path: shown.clone(),
-            source,
+            error,
         })?;
         let name = entry.file_name().to_string_lossy().into_owned();
         let is_csv = Path::new(&name)
@@ -640,7 +643,16 @@ mod tests {
         let ids: Vec<&str> = jobs.iter().map(|j| j.id.as_str()).collect();
         assert_eq!(
             ids,
-            ["_-row1", "__", "x_y", "_script_", "Walk-row5", "walk-row6", "trial", "_-row8"]
+            [
+                "_-row1",
+                "__",
+                "x_y",
+                "_script_",
+                "Walk-row5",
+                "walk-row6",
+                "trial",
+                "_-row8"
+            ]
         );
         for id in ids {
             assert!(super::super::confined_id(id).is_ok(), "{id:?}");

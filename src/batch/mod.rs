@@ -28,8 +28,9 @@
 //! outputs are written to `<out>/trials/<id>/` as soon as it finishes (`frames.csv`,
 //! `summary.json`, `steps.csv`, plots unless `--no-plots`), each file through a temporary name
 //! and a rename, `summary.json` last: a folder with a `summary.json` is complete. The id is the
-//! trial file's stem; when two rows share a stem, each of them becomes `<stem>-row<row>` (e.g.
-//! `walk-row3`). A trial that fails (file unreadable, a landmark missing, a bad subject row,
+//! trial file's stem made a plain folder name ([`sanitize_id`]: `..csv` gives `__`); when two
+//! rows share an id (letter case ignored), each of them becomes `<id>-row<row>` (e.g.
+//! `walk-row3`). Nothing is written outside `<out>/trials/<id>/` ([`trial_dir`]). A trial that fails (file unreadable, a landmark missing, a bad subject row,
 //! a bad per-row configuration) becomes a row with `status = error` and its one-line message,
 //! printed as it happens; the batch goes on. A progress bar is shown on a terminal, a line every
 //! few seconds otherwise, neither with `-q`.
@@ -60,7 +61,9 @@
 //!
 //! **Resuming.** `--resume` skips every trial whose `trials/<id>/summary.json` exists and records
 //! the same input-file SHA-256 and configuration hash (configuration, subject and table) as the
-//! trial would get now; its row is read back from that `summary.json`. Rows are always built from
+//! trial would get now, and whose other outputs are complete ([`resume::outputs_complete`]:
+//! `frames.csv` with one row per frame, steps, repetitions, the plots asked for now); its row is
+//! read back from that `summary.json`. Rows are always built from
 //! the `summary.json` text, so a resumed table is identical to an uninterrupted one. A run that
 //! was killed (even with `kill -9`) leaves only complete files and hidden temporary files
 //! (`.<name>.<pid>.tmp`, `.<stem>.<pid>-<n>.tmp.png`), which are removed when that trial runs
@@ -408,7 +411,7 @@ pub fn write_summary(
     let paths: Vec<PathBuf> = names.iter().map(|n| out_dir.join(n)).collect();
     let err = |p: &Path| {
         let path = p.display().to_string();
-        move |source| TableError::Write { path, source }
+        move |error| TableError::Write { path, error }
     };
     crate::report::write_atomic(&paths[0], |w| table::write_csv(rows, w))
         .map_err(err(&paths[0]))?;
@@ -498,7 +501,10 @@ fn check_merged_row(path: &Path, n: i64, row: &Row) -> Result<(), BatchError> {
             crate::textio::quote(status.unwrap_or_default())
         )));
     }
-    let id = row.get("id").and_then(table::Cell::as_str).unwrap_or_default();
+    let id = row
+        .get("id")
+        .and_then(table::Cell::as_str)
+        .unwrap_or_default();
     confined_id(id).map_err(bad)
 }
 

@@ -131,7 +131,11 @@ mod tests {
         left.sort();
         assert_eq!(
             left,
-            [".other.csv.99999999.tmp", ".summary.csv.x.tmp", "summary.csv"]
+            [
+                ".other.csv.99999999.tmp",
+                ".summary.csv.x.tmp",
+                "summary.csv"
+            ]
         );
     }
 }

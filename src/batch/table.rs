@@ -418,16 +418,12 @@ impl Row {
 /// A summary table that cannot be read or written.
 #[derive(Debug, thiserror::Error)]
 pub enum TableError {
-    #[error("cannot write {path}: {source}")]
-    Write {
-        path: String,
-        source: std::io::Error,
-    },
-    #[error("cannot read {path}: {source}")]
-    Read {
-        path: String,
-        source: std::io::Error,
-    },
+    // `error`, not `source`: the message already holds it, and an error chain printed with
+    // `{:#}` would repeat it.
+    #[error("cannot write {path}: {error}")]
+    Write { path: String, error: std::io::Error },
+    #[error("cannot read {path}: {error}")]
+    Read { path: String, error: std::io::Error },
     #[error("{path}: {message}")]
     Format { path: String, message: String },
 }
@@ -452,10 +448,10 @@ pub fn write_csv(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
 /// Reads a summary table written by [`write_csv`]; columns are matched by name.
 pub fn read_csv(path: &Path) -> Result<Vec<Row>, TableError> {
     let bytes =
-        crate::textio::read_regular(path, crate::textio::MAX_SUMMARY_BYTES).map_err(|source| {
+        crate::textio::read_regular(path, crate::textio::MAX_SUMMARY_BYTES).map_err(|error| {
             TableError::Read {
                 path: path.display().to_string(),
-                source,
+                error,
             }
         })?;
     let mut reader = csv::Reader::from_reader(bytes.as_slice());
@@ -619,10 +615,10 @@ pub fn write_parquet(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
 /// library on malformed bytes is caught and becomes such an error too.
 pub fn read_parquet(path: &Path) -> Result<Vec<Row>, TableError> {
     let bytes =
-        crate::textio::read_regular(path, crate::textio::MAX_SUMMARY_BYTES).map_err(|source| {
+        crate::textio::read_regular(path, crate::textio::MAX_SUMMARY_BYTES).map_err(|error| {
             TableError::Read {
                 path: path.display().to_string(),
-                source,
+                error,
             }
         })?;
     match quietly(|| decode_parquet(path, &bytes)) {
@@ -698,7 +694,10 @@ fn decode_parquet(path: &Path, bytes: &[u8]) -> Result<Vec<Row>, TableError> {
         .finish()
         .map_err(|e| corrupt(crate::textio::one_line(&e.to_string(), 200)))?;
     if df.height() != count {
-        return Err(corrupt(format!("{} rows read, {count} recorded", df.height())));
+        return Err(corrupt(format!(
+            "{} rows read, {count} recorded",
+            df.height()
+        )));
     }
     let n = df.height();
     let cols = columns();
