@@ -162,9 +162,10 @@ pub struct BatchOptions {
 /// A batch that could not run or whose summary could not be written.
 #[derive(Debug, thiserror::Error)]
 pub enum BatchError {
-    #[error("{0}")]
+    // Transparent: the message is the inner one, printed once by an error chain.
+    #[error(transparent)]
     Manifest(#[from] ManifestError),
-    #[error("{0}")]
+    #[error(transparent)]
     Table(#[from] TableError),
     #[error("cannot start {jobs} worker threads: {message}")]
     Threads { jobs: usize, message: String },
