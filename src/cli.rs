@@ -404,10 +404,12 @@ fn trial(a: &TrialArgs, ui: &Ui) -> Result<ExitCode> {
     let mut trial_config = config(&a.setup)?;
     trial_config.plates_file = a.plates.clone();
     let setup = Setup::new(trial_config, subject(&a.subject)?)?;
-    let stem = a
-        .trial
-        .file_stem()
-        .map_or("trial".into(), |s| s.to_string_lossy().into_owned());
+    // The output folder is a plain name under --out, whatever the file is called (`..csv`).
+    let stem = gravline::batch::sanitize_id(
+        &a.trial
+            .file_stem()
+            .map_or(String::new(), |s| s.to_string_lossy().into_owned()),
+    );
     let dir = a.out.join(&stem);
     let options = OutputOptions {
         run: RunOptions {

@@ -11,11 +11,10 @@ use std::path::Path;
 /// A configuration or subject file that cannot be used.
 #[derive(Debug, thiserror::Error)]
 pub enum ConfigError {
-    #[error("cannot read {path}: {source}")]
-    Io {
-        path: String,
-        source: std::io::Error,
-    },
+    // `error`, not `source`: the message already holds it, and an error chain printed with
+    // `{:#}` would repeat it.
+    #[error("cannot read {path}: {error}")]
+    Io { path: String, error: std::io::Error },
     #[error("{path}: {message}")]
     Toml { path: String, message: String },
     #[error("{path}: {message}")]
@@ -179,16 +178,25 @@ impl RawConfig {
     }
 }
 
+/// Reads a configuration or subject file: a regular file of at most
+/// [`crate::textio::MAX_CONFIG_BYTES`] (a FIFO or a device such as `/dev/zero` is refused).
 fn read(path: &Path) -> Result<String, ConfigError> {
-    std::fs::read_to_string(path).map_err(|source| ConfigError::Io {
-        path: path.display().to_string(),
-        source,
+    crate::textio::read_regular_text(path, crate::textio::MAX_CONFIG_BYTES).map_err(|source| {
+        ConfigError::Io {
+            path: path.display().to_string(),
+            error: source,
+        }
     })
 }
 
-/// Collapses a multi-line parser message (toml shows the offending line) into one line.
+/// Collapses a multi-line parser message (toml shows the offending line) into one short line.
 fn one_line(message: &str) -> String {
-    message.split_whitespace().collect::<Vec<_>>().join(" ")
+    crate::textio::one_line(message, crate::textio::MESSAGE_CHARS)
+}
+
+/// Input quoted for a message: short, on one line ([`crate::textio::quote`]).
+fn q(text: &str) -> String {
+    crate::textio::quote(text)
 }
 
 /// Hip joint center method (reference/methods.md 1.2).
@@ -375,6 +383,13 @@ pub struct Declared {
 
 /// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
 pub const DEFAULT_CUTOFF_HZ: f64 = 6.0;
+/// Lowest low-pass cut-off accepted. Common practice, no source: marker cut-offs for human
+/// movement are a few hertz (Winter's residual analysis gives about 6 Hz in walking), and the
+/// slowest whole-body movements analysed (quiet-standing sway) have their power below about
+/// 1 Hz, so a cut-off under 0.5 Hz removes the movement itself. It also keeps the zero-lag
+/// filter's end padding (three periods of the cut-off) within a few seconds: at 0.001 Hz the
+/// filtered CoM of a 6 s walk lands metres outside the walkway.
+pub const MIN_CUTOFF_HZ: f64 = 0.5;
 /// Default longest gap the spline bridges (reference/methods.md 4: about 0.1 s).
 pub const DEFAULT_MAX_GAP_S: f64 = 0.10;
 
@@ -397,7 +412,8 @@ impl Config {
             Some("m") => LengthUnit::Metres,
             Some(other) => {
                 return Err(invalid(format!(
-                    "[input] units = `{other}`; use \"mm\" or \"m\""
+                    "[input] units = {}; use \"mm\" or \"m\"",
+                    q(other)
                 )))
             }
         };
@@ -405,7 +421,8 @@ impl Config {
             None => UpAxis::Z,
             Some(text) => UpAxis::parse(text).ok_or_else(|| {
                 invalid(format!(
-                    "[input] up_axis = `{text}`; use one of z, y, x, -z, -y, -x"
+                    "[input] up_axis = {}; use one of z, y, x, -z, -y, -x",
+                    q(text)
                 ))
             })?,
         };
@@ -427,25 +444,25 @@ impl Config {
             Some("hara-2016") => HipMethod::Hara2016,
             Some("dumas-2007") => HipMethod::Dumas2007,
             Some("given") => HipMethod::Given,
-            Some(other) => {
-                return Err(invalid(format!(
-                    "[model] hip = `{other}`; use harrington-2007, bell-1990, hara-2016, dumas-2007 or given"
-                )))
-            }
+            Some(other) => return Err(invalid(format!(
+                "[model] hip = {}; use harrington-2007, bell-1990, hara-2016, dumas-2007 or given",
+                q(other)
+            ))),
         };
         let arms = match raw.model.arms.as_deref() {
             None | Some("required") => ArmsMode::Required,
             Some("hanging") => ArmsMode::Hanging,
             Some(other) => {
                 return Err(invalid(format!(
-                    "[model] arms = `{other}`; use \"required\" or \"hanging\""
+                    "[model] arms = {}; use \"required\" or \"hanging\"",
+                    q(other)
                 )))
             }
         };
         let mut endpoints = BTreeMap::new();
         for (segment, key) in &raw.model.endpoints {
             let kind = SegmentKind::from_name(segment).ok_or_else(|| {
-                invalid(format!("[model] endpoints: unknown segment `{segment}`"))
+                invalid(format!("[model] endpoints: unknown segment {}", q(segment)))
             })?;
             endpoints.insert(kind, key.clone());
         }
@@ -453,12 +470,18 @@ impl Config {
             None => Some(DEFAULT_CUTOFF_HZ),
             Some(RawCutoff::Hz(hz)) => {
                 positive(*hz, "[filter] cutoff_hz").map_err(invalid)?;
+                if *hz < MIN_CUTOFF_HZ {
+                    return Err(invalid(format!(
+                        "[filter] cutoff_hz = {hz} is below {MIN_CUTOFF_HZ} Hz, which would smooth away movement itself; give a cut-off of a few Hz (6 for walking), or \"none\" to turn the filter off"
+                    )));
+                }
                 Some(*hz)
             }
             Some(RawCutoff::Word(w)) if w == "none" => None,
             Some(RawCutoff::Word(w)) => {
                 return Err(invalid(format!(
-                    "[filter] cutoff_hz = `{w}`; give Hz or \"none\""
+                    "[filter] cutoff_hz = {}; give Hz or \"none\"",
+                    q(w)
                 )))
             }
         };
@@ -504,7 +527,8 @@ impl Config {
             }
             Some(RawLength::Word(w)) => {
                 return Err(invalid(format!(
-                    "[support] xcom_length = `{w}`; give \"leg\" or metres"
+                    "[support] xcom_length = {}; give \"leg\" or metres",
+                    q(w)
                 )))
             }
         };
@@ -513,7 +537,8 @@ impl Config {
             Some("zeni") => GaitEventMethod::Zeni,
             Some(w) => {
                 return Err(invalid(format!(
-                    "[support] gait_events = `{w}`; give \"zeni-bonci\" or \"zeni\""
+                    "[support] gait_events = {}; give \"zeni-bonci\" or \"zeni\"",
+                    q(w)
                 )))
             }
         };
@@ -521,8 +546,9 @@ impl Config {
         for l in &raw.load {
             if !(l.mass_kg >= 0.0 && l.mass_kg.is_finite()) {
                 return Err(invalid(format!(
-                    "[[load]] `{}`: mass_kg = {}; give kg >= 0",
-                    l.name, l.mass_kg
+                    "[[load]] {}: mass_kg = {}; give kg >= 0",
+                    q(&l.name),
+                    l.mass_kg
                 )));
             }
             let position = match (&l.markers, &l.position_of) {
@@ -530,8 +556,8 @@ impl Config {
                 (None, Some(p)) => LoadPosition::Landmark(p.clone()),
                 _ => {
                     return Err(invalid(format!(
-                        "[[load]] `{}`: give either markers = [..] or position_of = \"landmark\"",
-                        l.name
+                        "[[load]] {}: give either markers = [..] or position_of = \"landmark\"",
+                        q(&l.name)
                     )))
                 }
             };
@@ -545,8 +571,8 @@ impl Config {
         for g in &raw.group {
             if g.segments.is_empty() || !is_identifier(&g.name) {
                 return Err(invalid(format!(
-                    "[[group]] `{}`: give a name of letters, digits and _ and at least one segment",
-                    g.name
+                    "[[group]] {}: give a name of letters, digits and _ and at least one segment",
+                    q(&g.name)
                 )));
             }
             groups.push(Group {
@@ -562,14 +588,14 @@ impl Config {
                 }
                 (None, Some(a), None) if a.len() == 2 && v.offset_m.is_none() => {
                     let fraction = v.fraction.ok_or_else(|| {
-                        invalid(format!("[virtual] {name}: `along` needs `fraction`"))
+                        invalid(format!("[virtual] {}: `along` needs `fraction`", q(name)))
                     })?;
                     VirtualDef::Along { from: a[0].clone(), to: a[1].clone(), fraction }
                 }
                 (None, None, Some(f)) if f.len() == 3 && v.fraction.is_none() => {
                     let o = v.offset_m.as_deref().unwrap_or(&[]);
                     if o.len() != 3 {
-                        return Err(invalid(format!("[virtual] {name}: `frame` needs `offset_m = [x, y, z]`")));
+                        return Err(invalid(format!("[virtual] {}: `frame` needs `offset_m = [x, y, z]`", q(name))));
                     }
                     VirtualDef::Offset {
                         frame: [f[0].clone(), f[1].clone(), f[2].clone()],
@@ -578,7 +604,8 @@ impl Config {
                 }
                 _ => {
                     return Err(invalid(format!(
-                        "[virtual] {name}: give one of mean = [..], along = [a, b] with fraction, or frame = [o, a, b] with offset_m = [x, y, z]"
+                        "[virtual] {}: give one of mean = [..], along = [a, b] with fraction, or frame = [o, a, b] with offset_m = [x, y, z]",
+                        q(name)
                     )))
                 }
             };
@@ -734,12 +761,16 @@ impl Subject {
     /// Reads and validates a subject TOML file.
     pub fn from_path(path: &Path) -> Result<Subject, ConfigError> {
         let text = read(path)?;
-        let origin = path.display().to_string();
-        let subject: Subject = toml::from_str(&text).map_err(|e| ConfigError::Toml {
-            path: origin.clone(),
+        Subject::from_toml(&text, &path.display().to_string())
+    }
+
+    /// Parses and validates subject TOML text; `origin` names it in errors.
+    pub fn from_toml(text: &str, origin: &str) -> Result<Subject, ConfigError> {
+        let subject: Subject = toml::from_str(text).map_err(|e| ConfigError::Toml {
+            path: origin.to_string(),
             message: one_line(&e.to_string()),
         })?;
-        subject.validate(&origin)
+        subject.validate(origin)
     }
 
     /// Checks the figures are physical (mass 1-500 kg, stature 0.3-2.8 m, lengths positive).

@@ -51,6 +51,8 @@ pub mod signal;
 pub mod support;
 /// Synthetic trials for the demo, the tests and the benchmarks.
 pub mod synth;
+/// Bounded reading of small text inputs; short one-line quotes of input in messages.
+pub mod textio;
 /// Reading trial files.
 pub mod trial;
 /// Non-fatal findings kept in the summary.

@@ -225,13 +225,13 @@ pub struct SegmentTable {
 /// A table that cannot be used.
 #[derive(Debug, thiserror::Error)]
 pub enum TableError {
-    #[error("unknown table `{name}`: built-in tables are de-leva-1996, dempster-winter and dumas-2007, or give the path of a table file")]
+    /// `name` is quoted for the message ([`crate::textio::quote`]).
+    #[error("unknown table {name}: built-in tables are de-leva-1996, dempster-winter and dumas-2007, or give the path of a table file")]
     Unknown { name: String },
-    #[error("cannot read table file {path}: {source}")]
-    Io {
-        path: String,
-        source: std::io::Error,
-    },
+    // `error`, not `source`: the message already holds it, and an error chain printed with
+    // `{:#}` would repeat it.
+    #[error("cannot read table file {path}: {error}")]
+    Io { path: String, error: std::io::Error },
     #[error("table {table} line {line}: {message}")]
     Row {
         table: String,
@@ -282,7 +282,7 @@ impl SegmentTable {
             ),
             _ => {
                 return Err(TableError::Unknown {
-                    name: name.to_string(),
+                    name: crate::textio::quote(name),
                 })
             }
         };
@@ -306,15 +306,18 @@ impl SegmentTable {
             return SegmentTable::builtin(name_or_path, sex);
         }
         let path = Path::new(name_or_path);
-        if !path.exists() {
+        if name_or_path.is_empty() || name_or_path.contains('\0') || !path.exists() {
             return Err(TableError::Unknown {
-                name: name_or_path.to_string(),
+                name: crate::textio::quote(name_or_path),
             });
         }
-        let text = std::fs::read_to_string(path).map_err(|source| TableError::Io {
-            path: path.display().to_string(),
-            source,
-        })?;
+        // A regular file of bounded size: a FIFO or a device such as /dev/zero is refused.
+        let text = crate::textio::read_regular_text(path, crate::textio::MAX_TABLE_BYTES).map_err(
+            |error| TableError::Io {
+                path: path.display().to_string(),
+                error,
+            },
+        )?;
         let label = path.display().to_string();
         SegmentTable::parse(&text, &label, "as given in the file", &label)
     }
@@ -345,7 +348,7 @@ impl SegmentTable {
             .from_reader(body.as_bytes());
         let headers = reader
             .headers()
-            .map_err(|e| row_err(skipped + 1, format!("unreadable header: {e}")))?
+            .map_err(|e| row_err(skipped + 1, format!("unreadable header: {}", one_line(&e))))?
             .clone();
         const COLUMNS: [&str; 8] = [
             "segment",
@@ -387,7 +390,7 @@ impl SegmentTable {
         for record in reader.records() {
             let record = record.map_err(|e| {
                 let line = e.position().map_or(0, |p| p.line()) + skipped;
-                row_err(line, format!("unreadable row: {e}"))
+                row_err(line, format!("unreadable row: {}", one_line(&e)))
             })?;
             let line = record.position().map_or(0, |p| p.line()) + skipped;
             let field = |k: usize| record.get(index[k]).unwrap_or("").trim();
@@ -399,8 +402,8 @@ impl SegmentTable {
                 row_err(
                     line,
                     format!(
-                        "unknown segment `{}`; segments are {}",
-                        field(0),
+                        "unknown segment {}; segments are {}",
+                        q(field(0)),
                         names.join(", ")
                     ),
                 )
@@ -411,7 +414,8 @@ impl SegmentTable {
                 return Err(row_err(
                     line,
                     format!(
-                        "segment `{segment}` has part_of `{part_of}`, expected `{expected_part}`"
+                        "segment `{segment}` has part_of {}, expected `{expected_part}`",
+                        q(part_of)
                     ),
                 ));
             }
@@ -420,7 +424,7 @@ impl SegmentTable {
                 let value: f64 = text.parse().map_err(|_| {
                     row_err(
                         line,
-                        format!("column `{}` is `{text}`, not a number", COLUMNS[k]),
+                        format!("column `{}` is {}, not a number", COLUMNS[k], q(text)),
                     )
                 })?;
                 if !(value > 0.0 && value <= 1.0) {
@@ -470,7 +474,7 @@ impl SegmentTable {
                 other => {
                     return Err(row_err(
                         line,
-                        format!("column `default` is `{other}`; use yes or no"),
+                        format!("column `default` is {}; use yes or no", q(other)),
                     ))
                 }
             };
@@ -586,7 +590,8 @@ fn body_segments(with_pelvis: bool) -> Vec<SegmentKind> {
 fn check_endpoint(segment: SegmentKind, name: &str) -> Result<(), String> {
     let Some(info) = vocabulary::info(name) else {
         return Err(format!(
-            "endpoint `{name}` of segment `{segment}` is not in the landmark vocabulary (see `gravline landmarks`)"
+            "endpoint {} of segment `{segment}` is not in the landmark vocabulary (see `gravline landmarks`)",
+            q(name)
         ));
     };
     match (segment.is_sided(), info.sidedness) {
@@ -598,6 +603,16 @@ fn check_endpoint(segment: SegmentKind, name: &str) -> Result<(), String> {
             "endpoint `{name}` of segment `{segment}` is sided; head and trunk use single points such as `mid_hip`"
         )),
     }
+}
+
+/// Input quoted for a message: short, on one line ([`crate::textio::quote`]).
+fn q(text: &str) -> String {
+    crate::textio::quote(text)
+}
+
+/// A parser's message on one short line.
+fn one_line(e: &dyn fmt::Display) -> String {
+    crate::textio::one_line(&e.to_string(), crate::textio::MESSAGE_CHARS)
 }
 
 /// Human-readable listing of a table for `gravline tables NAME`.

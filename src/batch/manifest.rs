@@ -43,11 +43,10 @@ pub const MANIFEST_FILE: &str = "manifest.csv";
 /// A problem that stops the whole batch before any trial runs.
 #[derive(Debug, thiserror::Error)]
 pub enum ManifestError {
-    #[error("cannot read {path}: {source}")]
-    Io {
-        path: String,
-        source: std::io::Error,
-    },
+    // `error`, not `source`: the message already holds it, and an error chain printed with
+    // `{:#}` would repeat it.
+    #[error("cannot read {path}: {error}")]
+    Io { path: String, error: std::io::Error },
     #[error("{path}: {message}")]
     Csv { path: String, message: String },
     #[error("{path}: missing column(s) {missing}; a manifest needs {needed}")]
@@ -127,9 +126,13 @@ impl Configs {
         self.files
             .entry(path.clone())
             .or_insert_with(|| {
-                let raw = RawConfig::from_path(&path).map_err(|e| e.to_string())?;
-                let config = Config::from_raw(&raw, &path.display().to_string())
-                    .map_err(|e| e.to_string())?;
+                // The path comes from a manifest cell: its messages are kept short and on one
+                // line.
+                let short = |e: crate::config::ConfigError| {
+                    crate::textio::one_line(&e.to_string(), crate::textio::MESSAGE_CHARS)
+                };
+                let raw = RawConfig::from_path(&path).map_err(short)?;
+                let config = Config::from_raw(&raw, &path.display().to_string()).map_err(short)?;
                 Ok(Arc::new(config))
             })
             .clone()
@@ -158,7 +161,7 @@ impl Record<'_> {
 
     fn number(&self, column: &str, text: &str) -> Result<f64, String> {
         text.parse::<f64>()
-            .map_err(|_| format!("{}: {column} = `{text}`, not a number", self.origin))
+            .map_err(|_| format!("{}: {column} = {}, not a number", self.origin, q(text)))
     }
 
     /// The subject of this row, validated.
@@ -168,8 +171,9 @@ impl Record<'_> {
         let sex_text = self.required("sex")?;
         let sex = Sex::parse(sex_text).ok_or_else(|| {
             format!(
-                "{}: sex = `{sex_text}`; use female or male (or f / m, any case)",
-                self.origin
+                "{}: sex = {}; use female or male (or f / m, any case)",
+                self.origin,
+                q(sex_text)
             )
         })?;
         let mut subject = Subject::new(mass_kg, height_m, sex);
@@ -200,23 +204,36 @@ struct Table {
     records: Vec<(u64, csv::StringRecord)>,
 }
 
+/// Reads a manifest or `subjects.csv`: a regular file of at most
+/// [`crate::textio::MAX_MANIFEST_BYTES`] (a FIFO or a device such as `/dev/zero` is refused).
 fn read_table(path: &Path) -> Result<Table, ManifestError> {
     let shown = path.display().to_string();
-    let file = std::fs::File::open(path).map_err(|source| ManifestError::Io {
-        path: shown.clone(),
-        source,
-    })?;
+    let bytes =
+        crate::textio::read_regular(path, crate::textio::MAX_MANIFEST_BYTES).map_err(|error| {
+            ManifestError::Io {
+                path: shown.clone(),
+                error,
+            }
+        })?;
+    parse_table(&bytes, shown)
+}
+
+/// Parses the bytes of a manifest or `subjects.csv`; `shown` names it in messages.
+fn parse_table(bytes: &[u8], shown: String) -> Result<Table, ManifestError> {
     let mut reader = csv::ReaderBuilder::new()
         .flexible(true)
         .comment(Some(b'#'))
-        .from_reader(file);
+        .from_reader(bytes);
     let csv_error = |e: csv::Error| {
         let at = e
             .position()
             .map_or(String::new(), |p| format!("line {}: ", p.line()));
         ManifestError::Csv {
             path: shown.clone(),
-            message: format!("{at}{e}"),
+            message: format!(
+                "{at}{}",
+                crate::textio::one_line(&e.to_string(), crate::textio::MESSAGE_CHARS)
+            ),
         }
     };
     let header_names: Vec<String> = reader
@@ -277,7 +294,7 @@ impl Table {
             .filter(|h| !known.contains(h))
             .collect();
         (!ignored.is_empty())
-            .then(|| format!("{}: columns ignored: {}", self.path, ignored.join(", ")))
+            .then(|| format!("{}: columns ignored: {}", self.path, quote_list(&ignored)))
     }
 
     fn record(&self, i: usize) -> Option<Record<'_>> {
@@ -303,13 +320,39 @@ fn known_columns() -> Vec<&'static str> {
 /// `config` cell.
 pub fn read_manifest(path: &Path, base: Config) -> Result<Plan, ManifestError> {
     let table = read_table(path)?;
+    let folder = path.parent().map(Path::to_path_buf).unwrap_or_default();
+    plan_manifest(table, &folder, base)
+}
+
+/// [`read_manifest`] on the bytes of a manifest; `shown` names it in messages, and trial and
+/// config paths are relative to `folder`.
+///
+/// ```
+/// use gravline::batch::read_manifest_bytes;
+/// use gravline::config::Config;
+/// let text = "trial,subject,mass_kg,height_m,sex\nwalk.csv,s1,70,1.75,f\nrun.csv,s1,70,1.75,\"x\ny\"\n";
+/// let plan = read_manifest_bytes(text.as_bytes(), "m.csv", "data".as_ref(), Config::default())?;
+/// assert_eq!(plan.jobs[0].path, std::path::Path::new("data/walk.csv"));
+/// let e = plan.jobs[1].setup.as_ref().unwrap_err();
+/// assert!(e.contains("sex = `x\\ny`") && !e.contains('\n'), "{e}");
+/// # Ok::<(), gravline::batch::ManifestError>(())
+/// ```
+pub fn read_manifest_bytes(
+    bytes: &[u8],
+    shown: &str,
+    folder: &Path,
+    base: Config,
+) -> Result<Plan, ManifestError> {
+    plan_manifest(parse_table(bytes, shown.to_string())?, folder, base)
+}
+
+fn plan_manifest(table: Table, folder: &Path, base: Config) -> Result<Plan, ManifestError> {
     table.check_columns(&REQUIRED_COLUMNS)?;
     if table.records.is_empty() {
         return Err(ManifestError::Empty {
             path: table.path.clone(),
         });
     }
-    let folder = path.parent().map(Path::to_path_buf).unwrap_or_default();
     let mut configs = Configs {
         base: Arc::new(base),
         files: HashMap::new(),
@@ -373,15 +416,15 @@ pub fn read_directory(
         same(dir, out_dir)
             && (name == "summary.csv" || name == "groups.csv" || is_shard_summary(name))
     };
-    let entries = std::fs::read_dir(dir).map_err(|source| ManifestError::Io {
+    let entries = std::fs::read_dir(dir).map_err(|error| ManifestError::Io {
         path: shown.clone(),
-        source,
+        error,
     })?;
     let mut names = Vec::new();
     for entry in entries {
-        let entry = entry.map_err(|source| ManifestError::Io {
+        let entry = entry.map_err(|error| ManifestError::Io {
             path: shown.clone(),
-            source,
+            error,
         })?;
         let name = entry.file_name().to_string_lossy().into_owned();
         let is_csv = Path::new(&name)
@@ -457,8 +500,9 @@ pub fn read_directory(
                     None,
                     None,
                     Err(format!(
-                        "{}: no row for `{name}`; add one, or give a subject for the whole folder",
-                        subjects_path.display()
+                        "{}: no row for {}; add one, or give a subject for the whole folder",
+                        subjects_path.display(),
+                        q(name)
                     )),
                 ),
             },
@@ -490,7 +534,7 @@ pub fn read_directory(
             warnings.push(format!(
                 "{}: rows for files not in the folder: {}",
                 t.path,
-                unused.join(", ")
+                quote_list(&unused)
             ));
         }
     }
@@ -499,6 +543,21 @@ pub fn read_directory(
         jobs,
         warnings,
     })
+}
+
+/// Input quoted for a message: short, on one line ([`crate::textio::quote`]).
+fn q(text: &str) -> String {
+    crate::textio::quote(text)
+}
+
+/// The first few names of a list, each quoted, and how many more there are.
+fn quote_list(names: &[&str]) -> String {
+    const SHOWN: usize = 10;
+    let mut text: Vec<String> = names.iter().take(SHOWN).map(|n| q(n)).collect();
+    if names.len() > SHOWN {
+        text.push(format!("and {} more", names.len() - SHOWN));
+    }
+    text.join(", ")
 }
 
 /// `summary-K-of-N.csv`, a shard's summary.
@@ -515,38 +574,41 @@ fn is_shard_summary(name: &str) -> bool {
     k.parse::<usize>().is_ok() && n.parse::<usize>().is_ok()
 }
 
-/// Output ids: the trial file's stem; when several rows share a stem, each of them gets
+/// Output ids: the trial file's stem made a plain folder name ([`super::sanitize_id`]: `..csv`
+/// gives `__`, separators and control characters become `_`); when several rows share an id
+/// (letter case ignored, as on case-insensitive file systems), each of them gets
 /// `<stem>-row<row>` (e.g. `walk-row3`, `walk-row7`), and the suffix is repeated in the rare
 /// case that this still meets another id. Ids depend on the whole manifest only, so every
 /// shard of a manifest gives a trial the same id.
 pub fn assign_ids(jobs: &mut [Job]) {
     let stem = |j: &Job| {
-        Path::new(&j.trial)
+        let stem = Path::new(&j.trial)
             .file_stem()
             .map(|s| s.to_string_lossy().into_owned())
-            .filter(|s| !s.is_empty())
-            .unwrap_or_else(|| "trial".to_string())
+            .unwrap_or_default();
+        super::sanitize_id(&stem)
     };
     let stems: Vec<String> = jobs.iter().map(stem).collect();
-    let mut count: HashMap<&str, usize> = HashMap::new();
+    let mut count: HashMap<String, usize> = HashMap::new();
     for s in &stems {
-        *count.entry(s.as_str()).or_default() += 1;
+        *count.entry(s.to_lowercase()).or_default() += 1;
     }
+    let unique = |s: &str| count.get(&s.to_lowercase()) == Some(&1);
     let mut taken: HashSet<String> = stems
         .iter()
-        .filter(|s| count.get(s.as_str()) == Some(&1))
-        .cloned()
+        .filter(|s| unique(s))
+        .map(|s| s.to_lowercase())
         .collect();
     for (job, s) in jobs.iter_mut().zip(&stems) {
-        if count.get(s.as_str()) == Some(&1) {
+        if unique(s) {
             job.id = s.clone();
             continue;
         }
         let mut id = format!("{s}-row{}", job.row);
-        while taken.contains(&id) {
+        while taken.contains(&id.to_lowercase()) {
             id = format!("{id}-row{}", job.row);
         }
-        taken.insert(id.clone());
+        taken.insert(id.to_lowercase());
         job.id = id;
     }
 }
@@ -579,6 +641,39 @@ mod tests {
         assign_ids(&mut jobs);
         let ids: Vec<&str> = jobs.iter().map(|j| j.id.as_str()).collect();
         assert_eq!(ids, ["walk-row1", "stand", "walk-row3-row3", "walk-row3"]);
+    }
+
+    #[test]
+    fn hostile_names_get_plain_unique_ids() {
+        let mut jobs = vec![
+            job(1, "..csv"),
+            job(2, "...csv"),
+            job(3, "a/\nb.csv"),
+            job(4, "<script>.csv"),
+            job(5, "Walk.csv"),
+            job(6, "walk.csv"),
+            job(7, "sub/.."),
+            job(8, "_.csv"),
+        ];
+        jobs[2].trial = "a/x\ny.csv".into();
+        assign_ids(&mut jobs);
+        let ids: Vec<&str> = jobs.iter().map(|j| j.id.as_str()).collect();
+        assert_eq!(
+            ids,
+            [
+                "_-row1",
+                "__",
+                "x_y",
+                "_script_",
+                "Walk-row5",
+                "walk-row6",
+                "trial",
+                "_-row8"
+            ]
+        );
+        for id in ids {
+            assert!(super::super::confined_id(id).is_ok(), "{id:?}");
+        }
     }
 
     fn write(dir: &Path, name: &str, text: &str) -> PathBuf {

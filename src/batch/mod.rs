@@ -28,8 +28,9 @@
 //! outputs are written to `<out>/trials/<id>/` as soon as it finishes (`frames.csv`,
 //! `summary.json`, `steps.csv`, plots unless `--no-plots`), each file through a temporary name
 //! and a rename, `summary.json` last: a folder with a `summary.json` is complete. The id is the
-//! trial file's stem; when two rows share a stem, each of them becomes `<stem>-row<row>` (e.g.
-//! `walk-row3`). A trial that fails (file unreadable, a landmark missing, a bad subject row,
+//! trial file's stem made a plain folder name ([`sanitize_id`]: `..csv` gives `__`); when two
+//! rows share an id (letter case ignored), each of them becomes `<id>-row<row>` (e.g.
+//! `walk-row3`). Nothing is written outside `<out>/trials/<id>/` ([`trial_dir`]). A trial that fails (file unreadable, a landmark missing, a bad subject row,
 //! a bad per-row configuration) becomes a row with `status = error` and its one-line message,
 //! printed as it happens; the batch goes on. A progress bar is shown on a terminal, a line every
 //! few seconds otherwise, neither with `-q`.
@@ -60,7 +61,9 @@
 //!
 //! **Resuming.** `--resume` skips every trial whose `trials/<id>/summary.json` exists and records
 //! the same input-file SHA-256 and configuration hash (configuration, subject and table) as the
-//! trial would get now; its row is read back from that `summary.json`. Rows are always built from
+//! trial would get now, and whose other outputs are complete ([`resume::outputs_complete`]:
+//! `frames.csv` with one row per frame, steps, repetitions, the plots asked for now); its row is
+//! read back from that `summary.json`. Rows are always built from
 //! the `summary.json` text, so a resumed table is identical to an uninterrupted one. A run that
 //! was killed (even with `kill -9`) leaves only complete files and hidden temporary files
 //! (`.<name>.<pid>.tmp`, `.<stem>.<pid>-<n>.tmp.png`), which are removed when that trial runs
@@ -90,12 +93,17 @@
 
 #![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
 
+pub mod confine;
 pub mod html;
 pub mod manifest;
 pub mod progress;
+pub mod resume;
 pub mod table;
 
-pub use manifest::{read_directory, read_manifest, DirectoryDefaults, Job, ManifestError, Plan};
+pub use confine::{confined_id, sanitize_id, trial_dir};
+pub use manifest::{
+    read_directory, read_manifest, read_manifest_bytes, DirectoryDefaults, Job, ManifestError, Plan,
+};
 pub use progress::{Progress, ProgressMode, TrialOutcome};
 pub use table::{Row, RowKey, StoredSummary, TableError};
 
@@ -157,9 +165,10 @@ pub struct BatchOptions {
 /// A batch that could not run or whose summary could not be written.
 #[derive(Debug, thiserror::Error)]
 pub enum BatchError {
-    #[error("{0}")]
+    // Transparent: the message is the inner one, printed once by an error chain.
+    #[error(transparent)]
     Manifest(#[from] ManifestError),
-    #[error("{0}")]
+    #[error(transparent)]
     Table(#[from] TableError),
     #[error("cannot start {jobs} worker threads: {message}")]
     Threads { jobs: usize, message: String },
@@ -296,6 +305,8 @@ fn run_job(
         condition: job.condition.as_deref(),
     };
     let fail = |message: String| {
+        // One short line, whatever the input put into the message.
+        let message = crate::textio::one_line(&message, crate::textio::MESSAGE_CHARS);
         let row = Row::error(&key, &message);
         (
             row,
@@ -313,11 +324,21 @@ fn run_job(
         Ok(s) => s,
         Err(e) => return fail(e.to_string()),
     };
-    let dir = trials.join(&job.id);
+    // Nothing is written outside `<out>/trials/<id>/`.
+    let dir = match trial_dir(trials, &job.id) {
+        Ok(dir) => dir,
+        Err(message) => return fail(message),
+    };
     let json = dir.join("summary.json");
+    // A FIFO or a device (`/dev/zero`) named as a trial would block or never end.
+    if let Err(e) = crate::textio::require_regular(&job.path) {
+        return fail(format!("cannot read {}: {e}", job.path.display()));
+    }
     if options.resume {
         if let Some(stored) = reusable(&job.path, &setup, &json) {
-            return (Row::ok(&key, &stored), TrialOutcome::Skipped, None);
+            if resume::outputs_complete(&dir, &stored, &options.output.plots) {
+                return (Row::ok(&key, &stored), TrialOutcome::Skipped, None);
+            }
         }
     }
     clear_stale(&dir);
@@ -395,10 +416,11 @@ pub fn write_summary(
     rows: &[Row],
 ) -> Result<Vec<PathBuf>, TableError> {
     let names = summary_names(shard);
+    resume::clear_batch_temporaries(out_dir, &names);
     let paths: Vec<PathBuf> = names.iter().map(|n| out_dir.join(n)).collect();
     let err = |p: &Path| {
         let path = p.display().to_string();
-        move |source| TableError::Write { path, source }
+        move |error| TableError::Write { path, error }
     };
     crate::report::write_atomic(&paths[0], |w| table::write_csv(rows, w))
         .map_err(err(&paths[0]))?;
@@ -415,9 +437,9 @@ pub fn write_summary(
 /// Writes the batch's `report.html` ([`html`]); returns its path.
 fn write_report(out_dir: &Path, rows: &[Row]) -> Result<PathBuf, TableError> {
     let page = out_dir.join("report.html");
-    html::write_batch_report(out_dir, "trials/", rows).map_err(|source| TableError::Write {
+    html::write_batch_report(out_dir, "trials/", rows).map_err(|error| TableError::Write {
         path: page.display().to_string(),
-        source,
+        error,
     })?;
     Ok(page)
 }
@@ -437,6 +459,7 @@ pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> 
             let n = row.row().ok_or_else(|| {
                 BatchError::Merge(format!("{}: a row without a `row` number", path.display()))
             })?;
+            check_merged_row(path, n, &row)?;
             rows.push((n, k, row));
         }
     }
@@ -477,6 +500,32 @@ pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> 
         rows,
         files,
     })
+}
+
+/// A shard row that no batch writes: a row number below 1, a status other than `ok` and
+/// `error`, an id that is not a plain folder name.
+fn check_merged_row(path: &Path, n: i64, row: &Row) -> Result<(), BatchError> {
+    let bad = |what: String| {
+        BatchError::Merge(format!(
+            "{}: row {n}: {what}; not a gravline batch summary, or corrupted: write the shard again",
+            path.display()
+        ))
+    };
+    if n < 1 {
+        return Err(bad("a row number below 1".into()));
+    }
+    let status = row.get("status").and_then(table::Cell::as_str);
+    if !matches!(status, Some(table::STATUS_OK | table::STATUS_ERROR)) {
+        return Err(bad(format!(
+            "status {}",
+            crate::textio::quote(status.unwrap_or_default())
+        )));
+    }
+    let id = row
+        .get("id")
+        .and_then(table::Cell::as_str)
+        .unwrap_or_default();
+    confined_id(id).map_err(bad)
 }
 
 #[cfg(test)]

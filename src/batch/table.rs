@@ -68,11 +68,11 @@ impl Cell {
             Kind::Int => t
                 .parse()
                 .map(|v| Cell::Int(Some(v)))
-                .map_err(|_| format!("`{t}` is not an integer")),
+                .map_err(|_| format!("{} is not an integer", crate::textio::quote(t))),
             Kind::Float => t
                 .parse()
                 .map(|v| Cell::Float(Some(v)))
-                .map_err(|_| format!("`{t}` is not a number")),
+                .map_err(|_| format!("{} is not a number", crate::textio::quote(t))),
             Kind::Text => Ok(Cell::Text(Some(text.to_string()))),
         }
     }
@@ -532,7 +532,7 @@ impl Row {
 
     /// The row of a trial that failed, with its one-line error.
     pub fn error(key: &RowKey, message: &str) -> Row {
-        let message = message.split_whitespace().collect::<Vec<_>>().join(" ");
+        let message = crate::textio::one_line(message, crate::textio::MESSAGE_CHARS);
         Row(named_cells(key, Some(&message), None)
             .into_iter()
             .map(|(_, c)| c)
@@ -564,16 +564,12 @@ impl Row {
 /// A summary table that cannot be read or written.
 #[derive(Debug, thiserror::Error)]
 pub enum TableError {
-    #[error("cannot write {path}: {source}")]
-    Write {
-        path: String,
-        source: std::io::Error,
-    },
-    #[error("cannot read {path}: {source}")]
-    Read {
-        path: String,
-        source: std::io::Error,
-    },
+    // `error`, not `source`: the message already holds it, and an error chain printed with
+    // `{:#}` would repeat it.
+    #[error("cannot write {path}: {error}")]
+    Write { path: String, error: std::io::Error },
+    #[error("cannot read {path}: {error}")]
+    Read { path: String, error: std::io::Error },
     #[error("{path}: {message}")]
     Format { path: String, message: String },
 }
@@ -597,14 +593,23 @@ pub fn write_csv(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
 
 /// Reads a summary table written by [`write_csv`]; columns are matched by name.
 pub fn read_csv(path: &Path) -> Result<Vec<Row>, TableError> {
-    let file = std::fs::File::open(path).map_err(|source| TableError::Read {
-        path: path.display().to_string(),
-        source,
-    })?;
-    let mut reader = csv::Reader::from_reader(file);
+    let bytes =
+        crate::textio::read_regular(path, crate::textio::MAX_SUMMARY_BYTES).map_err(|error| {
+            TableError::Read {
+                path: path.display().to_string(),
+                error,
+            }
+        })?;
+    let mut reader = csv::Reader::from_reader(bytes.as_slice());
+    let short = |e: csv::Error| {
+        format_error(
+            path,
+            crate::textio::one_line(&e.to_string(), crate::textio::MESSAGE_CHARS),
+        )
+    };
     let headers: Vec<String> = reader
         .headers()
-        .map_err(|e| format_error(path, e.to_string()))?
+        .map_err(short)?
         .iter()
         .map(str::to_string)
         .collect();
@@ -612,7 +617,7 @@ pub fn read_csv(path: &Path) -> Result<Vec<Row>, TableError> {
     let cols = columns();
     let mut rows = Vec::new();
     for record in reader.records() {
-        let record = record.map_err(|e| format_error(path, e.to_string()))?;
+        let record = record.map_err(short)?;
         let line = record.position().map_or(0, |p| p.line());
         let mut cells = Vec::with_capacity(cols.len());
         for ((name, kind), &i) in cols.iter().zip(&index) {
@@ -648,8 +653,43 @@ fn column_index(path: &Path, headers: &[String]) -> Result<Vec<usize>, TableErro
         .collect()
 }
 
+/// Parquet key-value metadata key: the number of rows written.
+pub const ROWS_KEY: &str = "gravline.rows";
+/// Parquet key-value metadata key: [`rows_sha256`] of the rows written.
+pub const ROWS_SHA256_KEY: &str = "gravline.rows_sha256";
+
+/// Parquet key-value metadata key: SHA-256 of the file's bytes before its footer (the magic
+/// number, then every page with its header), checked before any page is decoded.
+pub const DATA_SHA256_KEY: &str = "gravline.data_sha256";
+
+/// The bytes of a Parquet file before its footer: `PAR1`, the pages, up to the footer whose
+/// length the last 8 bytes give (`<length u32 LE>PAR1`). `None` when the file is not framed
+/// that way.
+pub fn parquet_data_region(bytes: &[u8]) -> Option<&[u8]> {
+    let n = bytes.len();
+    if n < 12 || &bytes[..4] != b"PAR1" || &bytes[n - 4..] != b"PAR1" {
+        return None;
+    }
+    let footer = u32::from_le_bytes(bytes[n - 8..n - 4].try_into().ok()?) as usize;
+    let end = n.checked_sub(8)?.checked_sub(footer)?;
+    (end >= 4).then(|| &bytes[..end])
+}
+
+/// SHA-256 (lowercase hex) of a table's rows as [`write_csv`] writes them (header included):
+/// recorded in a Parquet summary when it is written and checked when it is read, so a
+/// corrupted file that still decodes is caught. CSV numbers round-trip exactly, so the digest
+/// of the rows read back equals the one written.
+pub fn rows_sha256(rows: &[Row]) -> String {
+    let mut text = Vec::new();
+    // Writing into memory cannot fail.
+    let _ = write_csv(rows, &mut text);
+    crate::report::sha256_hex(&text)
+}
+
 /// Writes the table as Parquet with polars (Int64, Float64 and String columns, nulls where
-/// missing).
+/// missing), with the row count, [`rows_sha256`] and the SHA-256 of the pages
+/// ([`DATA_SHA256_KEY`]) in the file's key-value metadata. The pages do not depend on that
+/// metadata, so the file is encoded once to learn their digest and once more with it.
 pub fn write_parquet(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
     use polars::prelude::*;
     let io = |e: PolarsError| std::io::Error::other(e.to_string());
@@ -685,20 +725,126 @@ pub fn write_parquet(rows: &[Row], w: &mut dyn Write) -> std::io::Result<()> {
         })
         .collect();
     let mut df = DataFrame::new(rows.len(), series).map_err(io)?;
-    ParquetWriter::new(w).finish(&mut df).map_err(io)?;
-    Ok(())
+    let rows_digest = rows_sha256(rows);
+    let mut encode = |data_digest: String| -> std::io::Result<Vec<u8>> {
+        let metadata = KeyValueMetadata::from_static(vec![
+            (ROWS_KEY.to_string(), rows.len().to_string()),
+            (ROWS_SHA256_KEY.to_string(), rows_digest.clone()),
+            (DATA_SHA256_KEY.to_string(), data_digest),
+        ]);
+        let mut bytes = Vec::new();
+        ParquetWriter::new(&mut bytes)
+            .with_key_value_metadata(Some(metadata))
+            .finish(&mut df)
+            .map_err(io)?;
+        Ok(bytes)
+    };
+    let data_digest = |bytes: &[u8]| {
+        parquet_data_region(bytes)
+            .map(crate::report::sha256_hex)
+            .ok_or_else(|| std::io::Error::other("the Parquet writer gave an unframed file"))
+    };
+    let first = encode(String::new())?;
+    let digest = data_digest(&first)?;
+    let bytes = encode(digest.clone())?;
+    if data_digest(&bytes)? != digest {
+        return Err(std::io::Error::other(
+            "the Parquet writer encoded the same pages differently twice",
+        ));
+    }
+    w.write_all(&bytes)
 }
 
-/// Reads a summary table written by [`write_parquet`].
+/// Reads a summary table written by [`write_parquet`], checking it on the way: a regular file
+/// of at most [`crate::textio::MAX_SUMMARY_BYTES`], the row count and [`rows_sha256`] recorded
+/// in its metadata, the schema. A corrupted file is an error naming it; a panic of the Parquet
+/// library on malformed bytes is caught and becomes such an error too.
 pub fn read_parquet(path: &Path) -> Result<Vec<Row>, TableError> {
+    let bytes =
+        crate::textio::read_regular(path, crate::textio::MAX_SUMMARY_BYTES).map_err(|error| {
+            TableError::Read {
+                path: path.display().to_string(),
+                error,
+            }
+        })?;
+    match quietly(|| decode_parquet(path, &bytes)) {
+        Ok(result) => result,
+        Err(_) => Err(format_error(
+            path,
+            "corrupted Parquet file (the reader failed on its bytes); write the shard again",
+        )),
+    }
+}
+
+/// Runs `f`, turning a panic into `Err` without printing it (the panic hook is silenced for
+/// the call; calls are serialized, as the hook is global).
+fn quietly<T>(f: impl FnOnce() -> T) -> std::thread::Result<T> {
+    static LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
+    let _guard = LOCK.lock().unwrap_or_else(|e| e.into_inner());
+    let hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(|_| {}));
+    let result = std::panic::catch_unwind(std::panic::AssertUnwindSafe(f));
+    std::panic::set_hook(hook);
+    result
+}
+
+fn decode_parquet(path: &Path, bytes: &[u8]) -> Result<Vec<Row>, TableError> {
     use polars::prelude::*;
-    let file = std::fs::File::open(path).map_err(|source| TableError::Read {
-        path: path.display().to_string(),
-        source,
-    })?;
-    let df = ParquetReader::new(file)
+    let corrupt = |what: String| {
+        format_error(
+            path,
+            format!("corrupted or not a gravline summary ({what}); write the shard again"),
+        )
+    };
+    let mut reader = ParquetReader::new(std::io::Cursor::new(bytes));
+    let metadata = reader
+        .get_metadata()
+        .map_err(|e| corrupt(crate::textio::one_line(&e.to_string(), 200)))?
+        .clone();
+    let value = |key: &str| {
+        metadata
+            .key_value_metadata()
+            .as_ref()
+            .and_then(|kv| kv.iter().find(|k| k.key == key))
+            .and_then(|k| k.value.clone())
+    };
+    let (Some(count), Some(digest), Some(data_digest)) = (
+        value(ROWS_KEY),
+        value(ROWS_SHA256_KEY),
+        value(DATA_SHA256_KEY),
+    ) else {
+        return Err(corrupt(format!(
+            "no `{ROWS_KEY}`, `{ROWS_SHA256_KEY}` and `{DATA_SHA256_KEY}` in its metadata"
+        )));
+    };
+    // The pages are checked before they are decoded: a corrupted count in a page header would
+    // otherwise size an allocation.
+    let data = parquet_data_region(bytes).ok_or_else(|| corrupt("no Parquet framing".into()))?;
+    if crate::report::sha256_hex(data) != data_digest {
+        return Err(corrupt(
+            "its pages do not match the checksum recorded when it was written".into(),
+        ));
+    }
+    let count: usize = count
+        .parse()
+        .map_err(|_| corrupt(format!("`{ROWS_KEY}` is {}", crate::textio::quote(&count))))?;
+    // Each row holds at least its 8-byte row number: more rows than bytes cannot be true, and
+    // would size allocations by a count the file does not back.
+    if metadata.num_rows != count || count > bytes.len() {
+        return Err(corrupt(format!(
+            "{} rows in its footer, {count} recorded",
+            metadata.num_rows
+        )));
+    }
+    let df = reader
         .finish()
-        .map_err(|e| format_error(path, e.to_string()))?;
+        .map_err(|e| corrupt(crate::textio::one_line(&e.to_string(), 200)))?;
+    if df.height() != count {
+        return Err(corrupt(format!(
+            "{} rows read, {count} recorded",
+            df.height()
+        )));
+    }
     let n = df.height();
     let cols = columns();
     let mut table: Vec<Vec<Cell>> = (0..n).map(|_| Vec::with_capacity(cols.len())).collect();
@@ -729,7 +875,16 @@ pub fn read_parquet(path: &Path) -> Result<Vec<Row>, TableError> {
             }
         }
     }
-    Ok(table.into_iter().map(Row).collect())
+    let rows: Vec<Row> = table.into_iter().map(Row).collect();
+    if rows.iter().any(|r| r.0.len() != cols.len()) {
+        return Err(corrupt("columns of different lengths".into()));
+    }
+    if rows_sha256(&rows) != digest {
+        return Err(corrupt(
+            "its rows do not match the checksum recorded when it was written".into(),
+        ));
+    }
+    Ok(rows)
 }
 
 /// Reads a summary table, Parquet or CSV by the file's extension.
