@@ -32,6 +32,8 @@ pub mod anthropometry;
 pub mod batch;
 /// Landmarks, joint centers and segments.
 pub mod body;
+/// Reading C3D files: points, analog channels, force plates; the C3D writer and converter.
+pub mod c3d;
 /// Segment CoMs, the weighted whole-body CoM, loads, groups, XCoM.
 pub mod com;
 /// Configuration and subject, validated once.

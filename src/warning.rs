@@ -22,6 +22,9 @@ pub enum Warning {
     MassFractionSum { table: String, sum: f64 },
     /// A figure outside the range that is usual for people (a hint to check the input).
     Plausibility { message: String },
+    /// A finding of the C3D reader (header and parameters disagreeing, repeated labels, points
+    /// never valid, force plates skipped).
+    C3d { message: String },
 }
 
 impl fmt::Display for Warning {
@@ -40,6 +43,7 @@ impl fmt::Display for Warning {
                 "table `{table}`: mass fractions sum to {sum:.4}, not 1; CoM divides by the actual sum"
             ),
             Warning::Plausibility { message } => write!(f, "plausibility: {message}"),
+            Warning::C3d { message } => write!(f, "c3d: {message}"),
         }
     }
 }
