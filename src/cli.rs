@@ -53,6 +53,22 @@ enum Command {
     /// Join shard summaries (summary-K-of-N.parquet or .csv) into the summary.csv, summary.parquet
     /// and groups.csv of an unsharded run.
     Merge(MergeArgs),
+    /// Write a C3D file's points as a wide trial CSV (<out>/<stem>.csv, mm) and its force plates
+    /// as <out>/<stem>.plates.csv.
+    Convert(ConvertArgs),
+}
+
+#[derive(Args, Debug)]
+struct ConvertArgs {
+    /// C3D file.
+    trial: PathBuf,
+    /// Output folder.
+    #[arg(long)]
+    out: PathBuf,
+    /// How FORCE_PLATFORM:ORIGIN is applied: auto (negated when its z is positive), as-stored,
+    /// negated.
+    #[arg(long, default_value = "auto", value_parser = ["auto", "as-stored", "negated"])]
+    plate_origin: String,
 }
 
 #[derive(Args, Debug, Clone, Default)]
@@ -208,6 +224,7 @@ pub fn run() -> Result<ExitCode> {
         Command::Demo(a) => demo(&a, &ui),
         Command::Batch(a) => batch(&a, &ui),
         Command::Merge(a) => merge(&a, &ui),
+        Command::Convert(a) => convert(&a, &ui),
     }
 }
 
@@ -334,7 +351,11 @@ fn trial_line(s: &gravline::report::Summary) -> String {
 
 fn cutoff(a: &CutoffArgs) -> Result<ExitCode> {
     let config = config(&a.setup)?;
-    let trial = gravline::trial::read_trial(&a.trial, &config.read_options())?;
+    let trial = if gravline::c3d::is_c3d_file(&a.trial) {
+        gravline::c3d::read_trial(&a.trial, &config.read_options())?
+    } else {
+        gravline::trial::read_trial(&a.trial, &config.read_options())?
+    };
     let report = gravline::signal::cutoff::analyse_trial(&trial);
     print!("{}", report.describe());
     if let Some(path) = &a.csv {
@@ -388,7 +409,13 @@ fn landmarks(a: &LandmarksArgs) -> Result<ExitCode> {
     let Some(path) = &a.trial else {
         return Ok(ExitCode::SUCCESS);
     };
-    let labels = gravline::trial::read_labels(path)?;
+    let labels = if gravline::c3d::is_c3d_file(path) {
+        let c3d = gravline::c3d::read(path, &Default::default())?;
+        print!("\n{}", gravline::c3d::describe_points(&c3d));
+        c3d.labels
+    } else {
+        gravline::trial::read_labels(path)?
+    };
     println!("\n# [landmarks] template for {}: edit the labels on the right, delete lines you do not need.", path.display());
     println!("[landmarks]");
     let names = vocabulary::all_names();
@@ -604,4 +631,49 @@ fn merge(a: &MergeArgs, ui: &Ui) -> Result<ExitCode> {
     } else {
         ExitCode::SUCCESS
     })
+}
+
+fn convert(a: &ConvertArgs, ui: &Ui) -> Result<ExitCode> {
+    let origin = gravline::c3d::OriginSign::parse(&a.plate_origin).with_context(|| {
+        format!(
+            "--plate-origin `{}`: give auto, as-stored or negated",
+            a.plate_origin
+        )
+    })?;
+    let options = gravline::c3d::C3dOptions {
+        plates: gravline::c3d::PlateOptions {
+            origin,
+            ..Default::default()
+        },
+    };
+    let c3d = gravline::c3d::read(&a.trial, &options)?;
+    let stem = gravline::c3d::stem_of(&a.trial);
+    ui.warnings(&stem, &c3d.warnings);
+    let points = a.out.join(format!("{stem}.csv"));
+    gravline::report::write_atomic(&points, |w| {
+        gravline::c3d::convert::write_points_csv(&c3d, w)
+    })
+    .with_context(|| format!("cannot write {}", points.display()))?;
+    ui.info(&format!(
+        "{}: {} points, {} frames at {} Hz -> {}",
+        a.trial.display(),
+        c3d.labels.len(),
+        c3d.n_frames(),
+        c3d.rate_hz,
+        points.display()
+    ));
+    if !c3d.plates.plates.is_empty() {
+        let plates = a.out.join(format!("{stem}.plates.csv"));
+        gravline::report::write_atomic(&plates, |w| {
+            gravline::c3d::convert::write_plates_csv(&c3d, w)
+        })
+        .with_context(|| format!("cannot write {}", plates.display()))?;
+        ui.info(&format!(
+            "{} force plates at {} Hz -> {}",
+            c3d.plates.plates.len(),
+            c3d.plates.rate_hz,
+            plates.display()
+        ));
+    }
+    Ok(ExitCode::SUCCESS)
 }

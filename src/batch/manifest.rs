@@ -54,7 +54,7 @@ pub enum ManifestError {
         missing: String,
         needed: String,
     },
-    #[error("{path}: no trials (no rows, or no *.csv files)")]
+    #[error("{path}: no trials (no rows, or no *.csv or *.c3d files)")]
     Empty { path: String },
     #[error("{path}: {message}")]
     Invalid { path: String, message: String },
@@ -343,7 +343,7 @@ pub fn read_manifest(path: &Path, base: Config) -> Result<Plan, ManifestError> {
     })
 }
 
-/// Every `*.csv` trial of a folder, sorted by file name, with its subject from `subjects.csv`
+/// Every `*.csv` and `*.c3d` trial of a folder, sorted by file name, with its subject from `subjects.csv`
 /// in the folder (columns `trial` = file name, then as a manifest) or else `defaults.subject`.
 ///
 /// When `out_dir` is the folder itself, the batch's own summary files in it are not trials.
@@ -377,7 +377,7 @@ pub fn read_directory(
         let name = entry.file_name().to_string_lossy().into_owned();
         let is_csv = Path::new(&name)
             .extension()
-            .is_some_and(|e| e.eq_ignore_ascii_case("csv"));
+            .is_some_and(|e| e.eq_ignore_ascii_case("csv") || e.eq_ignore_ascii_case("c3d"));
         if is_csv && name != SUBJECTS_FILE && !is_output(&name) && entry.path().is_file() {
             names.push(name);
         }

@@ -182,6 +182,49 @@ pub fn is_c3d(path: &Path, bytes: &[u8]) -> bool {
     has_c3d_extension(path) || looks_like_c3d(bytes)
 }
 
+/// Whether the file at `path` is to be read as C3D: its extension, or its first bytes (byte 2
+/// is 0x50 and the parameter section names a processor type). Unreadable files are not.
+pub fn is_c3d_file(path: &Path) -> bool {
+    use std::io::{Read, Seek, SeekFrom};
+    if has_c3d_extension(path) {
+        return true;
+    }
+    let Ok(mut f) = std::fs::File::open(path) else {
+        return false;
+    };
+    let mut head = [0u8; 2];
+    if f.read_exact(&mut head).is_err() || head[1] != MAGIC || head[0] == 0 {
+        return false;
+    }
+    let mut b = [0u8; 1];
+    f.seek(SeekFrom::Start(((head[0] as u64 - 1) * BLOCK as u64) + 3))
+        .and_then(|_| f.read_exact(&mut b))
+        .is_ok_and(|_| Processor::from_byte(b[0]).is_some())
+}
+
+/// The points of a file, one `#` comment line each: label, the label as stored when it was
+/// repeated, and POINT:DESCRIPTIONS (for `gravline landmarks FILE.c3d`).
+pub fn describe_points(c3d: &C3d) -> String {
+    let mut out = format!("# points of {} (label: description)\n", c3d.file);
+    for ((label, stored), desc) in c3d
+        .labels
+        .iter()
+        .zip(&c3d.stored_labels)
+        .zip(&c3d.descriptions)
+    {
+        let also = if label != stored && !stored.is_empty() {
+            format!(" (stored as `{stored}`)")
+        } else {
+            String::new()
+        };
+        out.push_str(&format!("#   {label}{also}: {desc}\n"));
+    }
+    for w in &c3d.warnings {
+        out.push_str(&format!("# warning: {w}\n"));
+    }
+    out
+}
+
 /// Reads a C3D file.
 pub fn read(path: &Path, opts: &C3dOptions) -> Result<C3d, C3dError> {
     let file = path.display().to_string();
@@ -493,6 +536,18 @@ pub fn to_flat(c3d: &C3d, stem: &str, opts: &ReadOptions) -> Result<FlatTrial, C
         },
         tracks,
     })
+}
+
+/// A C3D file held in memory as the [`FlatTrial`] the pipeline takes (the default
+/// [`C3dOptions`]; the stem names the trial).
+pub fn read_flat(
+    bytes: &[u8],
+    path: &Path,
+    stem: &str,
+    opts: &ReadOptions,
+) -> Result<FlatTrial, C3dError> {
+    let c3d = parse(bytes, &path.display().to_string(), &C3dOptions::default())?;
+    to_flat(&c3d, stem, opts)
 }
 
 /// Reads a C3D file as a [`Trial`] (the stem of its name becomes the trial's name).
