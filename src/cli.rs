@@ -69,6 +69,10 @@ struct ConvertArgs {
     /// negated.
     #[arg(long, default_value = "auto", value_parser = ["auto", "as-stored", "negated"])]
     plate_origin: String,
+    /// What the scaled plate channels hold: reaction (the load on the body, as in c3d.org's
+    /// samples) or action (the load on the plate).
+    #[arg(long, default_value = "reaction", value_parser = ["reaction", "action"])]
+    plate_force: String,
 }
 
 #[derive(Args, Debug, Clone, Default)]
@@ -144,7 +148,7 @@ impl PlotArgs {
 
 #[derive(Args, Debug)]
 struct TrialArgs {
-    /// Trial CSV (wide or tidy layout).
+    /// Trial file: CSV (wide or tidy layout) or C3D.
     trial: PathBuf,
     #[command(flatten)]
     subject: SubjectArgs,
@@ -162,7 +166,7 @@ struct TrialArgs {
 
 #[derive(Args, Debug)]
 struct CutoffArgs {
-    /// Trial CSV.
+    /// Trial file (CSV or C3D).
     trial: PathBuf,
     #[command(flatten)]
     setup: SetupArgs,
@@ -182,7 +186,8 @@ struct TablesArgs {
 
 #[derive(Args, Debug)]
 struct LandmarksArgs {
-    /// Trial CSV: print a [landmarks] template matching its labels.
+    /// Trial file (CSV or C3D): print a [landmarks] template matching its labels (and, for a
+    /// C3D, its point descriptions).
     trial: Option<PathBuf>,
 }
 
@@ -525,7 +530,7 @@ fn demo(a: &DemoArgs, ui: &Ui) -> Result<ExitCode> {
 #[derive(Args, Debug)]
 struct BatchArgs {
     /// Manifest CSV (trial, subject, mass_kg, height_m, sex, [condition, config, ...]), or a
-    /// folder whose *.csv files are the trials.
+    /// folder whose *.csv and *.c3d files are the trials.
     input: PathBuf,
     /// Output folder.
     #[arg(long)]
@@ -643,6 +648,9 @@ fn convert(a: &ConvertArgs, ui: &Ui) -> Result<ExitCode> {
     let options = gravline::c3d::C3dOptions {
         plates: gravline::c3d::PlateOptions {
             origin,
+            force_sign: gravline::c3d::ForceSign::parse(&a.plate_force).with_context(|| {
+                format!("--plate-force `{}`: give reaction or action", a.plate_force)
+            })?,
             ..Default::default()
         },
     };

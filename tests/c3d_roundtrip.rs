@@ -260,14 +260,15 @@ fn cross(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
     ]
 }
 
-/// The six channel values (N, N mm, plate frame) a plate measures when the ground reaction on
-/// the body is `grf` (N, lab) acting at `cop` (m, lab, on the surface z = 0) with a free moment
+/// The six channel values (N, N mm, plate frame, the reaction on the body) a plate gives when
+/// the ground reaction on the body is `grf` (N, lab) acting at `cop` (m, lab, on the surface z = 0) with a free moment
 /// `tz` (N m, about lab +z), for a plate whose transducer lies `depth` m below its surface
 /// center `center` (m).
 fn channels(grf: [f64; 3], cop: [f64; 3], tz: f64, center: [f64; 3], depth: f64) -> [f64; 6] {
     // Plate frame = (x, -y, -z) of the lab.
     let to_plate = |v: [f64; 3]| [v[0], -v[1], -v[2]];
-    let load = to_plate([-grf[0], -grf[1], -grf[2]]);
+    // The channels hold the reaction on the body (module doc of `c3d::plates`, "Force sign").
+    let load = to_plate(grf);
     let transducer = [center[0], center[1], center[2] - depth];
     let r = to_plate([
         cop[0] - transducer[0],
@@ -275,7 +276,7 @@ fn channels(grf: [f64; 3], cop: [f64; 3], tz: f64, center: [f64; 3], depth: f64)
         cop[2] - transducer[2],
     ]);
     let m = cross(r, load);
-    let free = to_plate([0.0, 0.0, -tz]);
+    let free = to_plate([0.0, 0.0, tz]);
     [
         load[0],
         load[1],
@@ -399,12 +400,13 @@ fn type_2_and_type_4_plates_return_a_known_load() {
 
 #[test]
 fn zero_frames_give_the_baseline() {
-    // An unloaded plate whose Fz channel reads 15 N of drift throughout, then 700 N from frame
-    // 11: FORCE_PLATFORM:ZERO = 1..10 removes the drift.
+    // An unloaded plate whose Fz channel reads 15 N of drift throughout, then a 700 N reaction
+    // (upward, -z in the plate frame) from frame 11: FORCE_PLATFORM:ZERO = 1..10 removes the
+    // drift.
     let n = 20;
     let mut values = vec![vec![0.0; n]; 6];
     for (f, v) in values[2].iter_mut().enumerate() {
-        *v = if f < 10 { 15.0 } else { 715.0 };
+        *v = if f < 10 { 15.0 } else { -685.0 };
     }
     let rec = Recording {
         labels: vec!["A".into()],

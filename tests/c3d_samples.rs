@@ -134,3 +134,80 @@ fn formats_plates_agree_within_one_scale_step() {
         assert_eq!(f.plates, files[0].plates, "{}", f.file);
     }
 }
+
+/// Physics on the samples' force plates: the ground reaction on a walker points up (about body
+/// weight in stance), brakes in the first part of stance and propels in the last, along the
+/// direction the pelvis markers travel (facts of the trade, common practice, no source); the CoP
+/// lies on the plate.
+#[test]
+fn plate_loads_of_the_samples_obey_walking_physics() {
+    for (dir, name) in [
+        ("formats-six", "Eb015pr.c3d"),
+        ("formats-plates", "pc_real.c3d"),
+    ] {
+        let c = read(dir, name);
+        // Direction of walking: the first and last valid positions of a pelvis marker.
+        let pelvis = c
+            .labels
+            .iter()
+            .position(|l| l.starts_with("PV") || l.starts_with("RPV"))
+            .unwrap();
+        let valid: Vec<[f64; 3]> = (0..c.n_frames())
+            .filter_map(|f| c.point(pelvis, f))
+            .collect();
+        let (a, b) = (valid[0], valid[valid.len() - 1]);
+        let walk = {
+            let d = [b[0] - a[0], b[1] - a[1]];
+            let n = (d[0] * d[0] + d[1] * d[1]).sqrt();
+            [d[0] / n, d[1] / n]
+        };
+        let mut loaded_plates = 0;
+        for plate in &c.plates.plates {
+            let stance: Vec<_> = plate
+                .samples
+                .iter()
+                .filter(|s| s.force_n[2].abs() > 200.0)
+                .collect();
+            if stance.len() < 40 {
+                continue;
+            }
+            loaded_plates += 1;
+            assert!(
+                stance.iter().all(|s| s.force_n[2] > 0.0),
+                "{name}: plate {} pulls down",
+                plate.number
+            );
+            let peak = stance.iter().map(|s| s.force_n[2]).fold(0.0, f64::max);
+            assert!((600.0..1500.0).contains(&peak), "{name}: peak {peak} N");
+            let ap =
+                |s: &&gravline::c3d::PlateSample| s.force_n[0] * walk[0] + s.force_n[1] * walk[1];
+            let third = stance.len() / 3;
+            let early: f64 = stance[..third].iter().map(ap).sum::<f64>() / third as f64;
+            let late: f64 =
+                stance[stance.len() - third..].iter().map(ap).sum::<f64>() / third as f64;
+            assert!(
+                early < 0.0 && late > 0.0,
+                "{name}: plate {}: early {early} N, late {late} N",
+                plate.number
+            );
+            let (lo, hi) =
+                plate
+                    .corners_m
+                    .iter()
+                    .fold(([f64::MAX; 2], [f64::MIN; 2]), |(lo, hi), c| {
+                        (
+                            [lo[0].min(c[0]), lo[1].min(c[1])],
+                            [hi[0].max(c[0]), hi[1].max(c[1])],
+                        )
+                    });
+            for s in &stance {
+                let p = s.cop_m.unwrap();
+                assert!(
+                    p[0] > lo[0] && p[0] < hi[0] && p[1] > lo[1] && p[1] < hi[1],
+                    "{name}: CoP {p:?}"
+                );
+            }
+        }
+        assert!(loaded_plates >= 1, "{name}: no plate was stepped on");
+    }
+}

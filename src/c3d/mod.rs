@@ -58,7 +58,7 @@ pub mod write;
 
 pub use numbers::Processor;
 pub use params::{Param, ParamData, Parameters};
-pub use plates::{ForcePlates, OriginSign, Plate, PlateOptions, PlateSample};
+pub use plates::{ForcePlates, ForceSign, OriginSign, Plate, PlateOptions, PlateSample};
 pub use write::write;
 
 use crate::trial::{FlatTrial, RawMarkers, ReadOptions, Trial};

@@ -38,12 +38,23 @@
 //!   pair is not among the samples at hand).
 //! - Other types are skipped with a warning.
 //!
+//! # Force sign
+//! The specification does not say whether the scaled channels are the load on the plate or the
+//! load on the body. In both c3d.org sample recordings with plates (`formats-six`,
+//! `formats-plates`) the scaled channels are the ground reaction on the body in the plate frame
+//! (whose z points down by their corners): read so, the vertical force on the walker is upward
+//! (about +820 N in stance) and the horizontal force first brakes, then propels, along the
+//! direction of walking (tested). [`ForceSign::Reaction`], the default, reads them so;
+//! [`ForceSign::Action`] reads them as the load on the plate and negates them
+//! (`gravline convert --plate-force action`).
+//!
 //! # Mechanics (standard statics)
-//! F and M are the loads the plate measures (applied to it) about its transducer origin, plate
-//! frame. With the surface at plate z = oz (ORIGIN(3)): CoP px = (oz Fx - My) / Fz,
+//! F and M are the channel loads about the transducer origin, plate frame (their sign does not
+//! change the CoP). With the surface at plate z = oz (ORIGIN(3)): CoP px = (oz Fx - My) / Fz,
 //! py = (Mx + oz Fy) / Fz; in the lab, CoP = center + R (px - ox, py - oy, 0). The ground
-//! reaction on the body is -F, its moment about the transducer origin -M, rotated into the lab
-//! by R = [x y z]. The CoP is `None` where |Fz| is below [`PlateOptions::min_force_n`].
+//! reaction on the body is R F (or -R F for [`ForceSign::Action`]) and its moment about the
+//! transducer origin R M (or -R M), with R = [x y z]. The CoP is `None` where |Fz| is below
+//! [`PlateOptions::min_force_n`].
 //!
 //! Units: forces are taken as N; moment channels by their ANALOG:UNITS (`Nmm`, `ntmm`, `N.mm`
 //! are N mm; `Nm`, `N.m` are N m; anything else is taken as N mm with a warning); type-1 CoP
@@ -76,10 +87,33 @@ impl OriginSign {
     }
 }
 
+/// What the plate channels hold once scaled (module doc, "Force sign").
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum ForceSign {
+    /// The load the plate exerts on the body (the ground reaction), plate frame: the c3d.org
+    /// samples.
+    #[default]
+    Reaction,
+    /// The load the body exerts on the plate, plate frame.
+    Action,
+}
+
+impl ForceSign {
+    /// `reaction` or `action`.
+    pub fn parse(text: &str) -> Option<ForceSign> {
+        match text {
+            "reaction" => Some(ForceSign::Reaction),
+            "action" => Some(ForceSign::Action),
+            _ => None,
+        }
+    }
+}
+
 /// How force plates are computed.
 #[derive(Clone, Debug, PartialEq)]
 pub struct PlateOptions {
     pub origin: OriginSign,
+    pub force_sign: ForceSign,
     /// Subtract the mean over the FORCE_PLATFORM:ZERO frames from the force and moment channels.
     pub apply_zero: bool,
     /// Smallest |vertical force| with a CoP, N (common practice, no source: 10-20 N).
@@ -90,6 +124,7 @@ impl Default for PlateOptions {
     fn default() -> Self {
         PlateOptions {
             origin: OriginSign::Auto,
+            force_sign: ForceSign::Reaction,
             apply_zero: true,
             min_force_n: 10.0,
         }
@@ -99,7 +134,7 @@ impl Default for PlateOptions {
 /// One analog sample of one plate.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct PlateSample {
-    /// Ground reaction force on the body, N, lab frame (the negative of the load on the plate).
+    /// Ground reaction force on the body, N, lab frame.
     pub force_n: [f64; 3],
     /// Moment of the ground reaction about the transducer origin, N m, lab frame.
     pub moment_nm: [f64; 3],
@@ -265,6 +300,10 @@ pub fn compute(
         _ => None,
     };
     let mut type4_seen = 0usize;
+    let sign = match opts.force_sign {
+        ForceSign::Reaction => 1.0,
+        ForceSign::Action => -1.0,
+    };
     let to_m = to_mm * 1e-3;
     for k in 0..used {
         let number = k + 1;
@@ -495,8 +534,8 @@ pub fn compute(
             let fl = rotate(&axes, f);
             let ml = rotate(&axes, m);
             samples.push(PlateSample {
-                force_n: [-fl[0], -fl[1], -fl[2]],
-                moment_nm: [-ml[0], -ml[1], -ml[2]],
+                force_n: [sign * fl[0], sign * fl[1], sign * fl[2]],
+                moment_nm: [sign * ml[0], sign * ml[1], sign * ml[2]],
                 cop_m,
             });
         }

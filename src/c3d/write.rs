@@ -94,6 +94,31 @@ impl Default for Recording {
     }
 }
 
+impl Recording {
+    /// A recording of marker tracks given in metres (`tracks[marker][frame]`, `None` where
+    /// missing), written in millimetres at `rate_hz` with float storage and |POINT:SCALE|
+    /// 0.1 mm, no analog channels.
+    pub fn from_tracks_m(
+        labels: &[String],
+        tracks_m: &[Vec<Option<[f64; 3]>>],
+        rate_hz: f32,
+    ) -> Recording {
+        Recording {
+            rate_hz,
+            labels: labels.to_vec(),
+            points: tracks_m
+                .iter()
+                .map(|t| {
+                    t.iter()
+                        .map(|p| p.map(|p| [p[0] * 1e3, p[1] * 1e3, p[2] * 1e3]))
+                        .collect()
+                })
+                .collect(),
+            ..Recording::default()
+        }
+    }
+}
+
 fn bad(message: String) -> io::Error {
     io::Error::new(io::ErrorKind::InvalidInput, message)
 }
