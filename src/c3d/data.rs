@@ -23,6 +23,9 @@ use super::params::Parameters;
 /// points at up to a few kHz; more is a corrupted value).
 pub const MAX_RATE_HZ: f64 = 1.0e6;
 
+/// Most analog samples per channel per frame accepted (more is a corrupted rate).
+pub const MAX_SAMPLES_PER_FRAME: usize = 1 << 16;
+
 /// How the data section is laid out.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Layout {
@@ -211,6 +214,11 @@ pub fn layout(
                 Some(r) if r.is_finite() && r > 0.0 => {
                     let ratio = r / rate_hz;
                     let spf = ratio.round();
+                    if spf > MAX_SAMPLES_PER_FRAME as f64 {
+                        return Err(format!(
+                            "{spf} analog samples per frame (ANALOG:RATE {r} Hz at {rate_hz} Hz) is beyond any recording; the file is corrupted"
+                        ));
+                    }
                     if spf < 1.0 || (ratio - spf).abs() > 1e-3 * spf {
                         return Err(format!(
                             "the analog rate (ANALOG:RATE {r} Hz) is not a whole multiple of the frame rate ({rate_hz} Hz)"
@@ -255,7 +263,7 @@ pub fn layout(
             (total / spf, spf, spf as f64 * rate_hz)
         }
     };
-    if spf > 1 << 16 {
+    if spf > MAX_SAMPLES_PER_FRAME {
         return Err(format!(
             "{spf} analog samples per frame is beyond any recording; the file is corrupted"
         ));

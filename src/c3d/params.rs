@@ -107,11 +107,7 @@ impl Param {
         let ParamData::Char(bytes) = &self.data else {
             return None;
         };
-        let text = |b: &[u8]| {
-            String::from_utf8_lossy(b)
-                .trim_matches(|c: char| c == ' ' || c == '\0')
-                .to_string()
-        };
+        let text = |b: &[u8]| printable(b);
         if self.dims.len() <= 1 {
             return Some(vec![text(bytes)]);
         }
@@ -124,13 +120,23 @@ impl Param {
     }
 }
 
+/// Text of a parameter: UTF-8 (invalid bytes replaced), surrounding spaces and NULs trimmed,
+/// control characters shown as `?` (so a name or label never breaks a one-line message).
+pub fn printable(bytes: &[u8]) -> String {
+    String::from_utf8_lossy(bytes)
+        .trim_matches(|c: char| c == ' ' || c == '\0')
+        .chars()
+        .map(|c| if c.is_control() { '?' } else { c })
+        .collect()
+}
+
 /// Every parameter of a file, by group and name.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct Parameters {
     /// Processor type read from the section header.
     pub processor: Option<Processor>,
     /// Group names with their descriptions, by group id.
-    pub groups: Vec<(i8, String, String)>,
+    pub groups: Vec<(i16, String, String)>,
     /// Parameters in file order.
     pub list: Vec<Param>,
     index: HashMap<(String, String), usize>,
@@ -207,7 +213,7 @@ pub fn parse(section: &[u8], section_start: usize) -> Result<Parameters, String>
         processor: Some(processor),
         ..Parameters::default()
     };
-    let mut raw: Vec<(i8, Param)> = Vec::new();
+    let mut raw: Vec<(i16, Param)> = Vec::new();
     let mut pos = 4usize;
     let at = |p: usize| section_start + p;
     let cut = |what: &str, p: usize| {
@@ -230,9 +236,7 @@ pub fn parse(section: &[u8], section_start: usize) -> Result<Parameters, String>
         let name_bytes = section
             .get(pos + 2..pos + 2 + name_len)
             .ok_or_else(|| cut("name", pos + 2))?;
-        let name = String::from_utf8_lossy(name_bytes)
-            .trim_matches(|c: char| c == ' ' || c == '\0')
-            .to_ascii_uppercase();
+        let name = printable(name_bytes).to_ascii_uppercase();
         let offset_pos = pos + 2 + name_len;
         let offset_bytes = section
             .get(offset_pos..offset_pos + 2)
@@ -263,7 +267,7 @@ pub fn parse(section: &[u8], section_start: usize) -> Result<Parameters, String>
         };
         if group_id < 0 {
             let description = description(section, p, record_end);
-            params.groups.push((-group_id, name, description));
+            params.groups.push((-(group_id as i16), name, description));
         } else {
             let head = field(p, 2, "type and dimensions")?;
             let (kind, n_dims) = (head[0] as i8, head[1] as usize);
@@ -313,7 +317,7 @@ pub fn parse(section: &[u8], section_start: usize) -> Result<Parameters, String>
                 ),
             };
             raw.push((
-                group_id,
+                group_id as i16,
                 Param {
                     group: String::new(),
                     name,
@@ -355,7 +359,7 @@ fn description(section: &[u8], p: usize, end: usize) -> String {
         return String::new();
     };
     match section.get(p + 1..p + 1 + n as usize) {
-        Some(text) if p + 1 + n as usize <= end => String::from_utf8_lossy(text).trim().to_string(),
+        Some(text) if p + 1 + n as usize <= end => printable(text),
         _ => String::new(),
     }
 }

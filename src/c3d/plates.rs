@@ -258,6 +258,15 @@ pub fn compute(
         .get("FORCE_PLATFORM", "TYPE")
         .and_then(|p| p.numbers())
         .unwrap_or_default();
+    let used = if used > types.len() {
+        warnings.push(format!(
+            "FORCE_PLATFORM:USED is {used} but TYPE has {} entries; only those plates are read",
+            types.len()
+        ));
+        types.len()
+    } else {
+        used
+    };
     let channel_param = params.get("FORCE_PLATFORM", "CHANNEL");
     let channels = channel_param.and_then(|p| p.numbers()).unwrap_or_default();
     let ch_stride = channel_param
