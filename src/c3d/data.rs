@@ -6,7 +6,8 @@
 //!   rounded to a 32-bit float (the precision of float storage, so that the two storages of one
 //!   recording read the same to the bit).
 //! - Float storage (POINT:SCALE < 0): 32-bit floats, coordinates as stored; the residual float
-//!   is rounded to an integer first.
+//!   is converted to an integer (toward zero) first, and a coordinate that is not a finite
+//!   number makes the sample invalid.
 //! - A negative residual word marks an invalid sample (stored here as NaN coordinates).
 //! - Analog value = (stored - ANALOG:OFFSET) x ANALOG:SCALE x ANALOG:GEN_SCALE, for both
 //!   storages; integer samples are signed unless ANALOG:FORMAT is `UNSIGNED`.
@@ -421,15 +422,19 @@ fn read_float<'a>(
         let (p, a) = frame.split_at(point_bytes);
         for (track, v) in points.iter_mut().zip(p.chunks_exact(16)) {
             let residual = get(&v[12..16]);
-            // The residual float is converted to an integer; negative marks the sample invalid.
-            track.push(if residual.round() < 0.0 {
-                [f64::NAN; 3]
-            } else {
+            let xyz = [get(&v[0..4]), get(&v[4..8]), get(&v[8..12])];
+            // The residual float is converted to an integer (toward zero); negative marks the
+            // sample invalid, as do coordinates that are not finite numbers.
+            let valid =
+                residual.is_finite() && (residual as i32) >= 0 && xyz.iter().all(|c| c.is_finite());
+            track.push(if valid {
                 [
-                    get(&v[0..4]) as f64 * to_mm,
-                    get(&v[4..8]) as f64 * to_mm,
-                    get(&v[8..12]) as f64 * to_mm,
+                    xyz[0] as f64 * to_mm,
+                    xyz[1] as f64 * to_mm,
+                    xyz[2] as f64 * to_mm,
                 ]
+            } else {
+                [f64::NAN; 3]
             });
         }
         if !analog.is_empty() {
