@@ -134,7 +134,8 @@ fn patch(bytes: &mut [u8], group: &str, name: &str, value: f32) {
 #[test]
 fn each_kind_of_damage_has_its_message() {
     let good = sample_file(Processor::Intel, true);
-    let cases: Vec<(Box<dyn Fn(&mut Vec<u8>)>, &str)> = vec![
+    type Damage = Box<dyn Fn(&mut Vec<u8>)>;
+    let cases: Vec<(Damage, &str)> = vec![
         (
             Box::new(|b| b.truncate(b.len() - 600)),
             "the file is truncated",

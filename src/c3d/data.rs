@@ -256,7 +256,7 @@ pub fn layout(
             // No ANALOG group: the header alone.
             let spf = (header.analog_samples_per_frame as usize).max(1);
             let total = header.analog_per_frame as usize;
-            if total % spf != 0 {
+            if !total.is_multiple_of(spf) {
                 return Err(format!(
                     "the header gives {total} analog values per frame, not a multiple of its {spf} samples per frame"
                 ));
@@ -386,7 +386,7 @@ pub fn read(
                 &mut points_mm,
                 &mut values,
                 analog,
-                |b| i16::from_be_bytes(b),
+                i16::from_be_bytes,
             ),
             _ => read_int(
                 frames,
@@ -396,7 +396,7 @@ pub fn read(
                 &mut points_mm,
                 &mut values,
                 analog,
-                |b| i16::from_le_bytes(b),
+                i16::from_le_bytes,
             ),
         }
     }

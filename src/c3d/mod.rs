@@ -19,7 +19,12 @@
 //! - Analog channels: ANALOG:USED, RATE (a whole number of samples per frame), LABELS, UNITS,
 //!   DESCRIPTIONS, SCALE, GEN_SCALE, OFFSET (each continued by `2`, `3`, ... past 255 channels),
 //!   FORMAT (`SIGNED` / `UNSIGNED` integer samples).
-//! - Force plates of TYPE 1 to 4 ([`plates`]).
+//! - Force plates of TYPE 1 to 4 ([`plates`]): per plate and analog sample the ground reaction
+//!   force (N) and its moment about the transducer origin (N m) in the lab frame, and the CoP.
+//!   FORCE_PLATFORM:ORIGIN is applied as the specification defines it (transducer origin to
+//!   surface center, z negative) and negated when its z is positive ([`OriginSign::Auto`];
+//!   [`PlateOptions::origin`] changes it); the scaled channels are read as the reaction on the
+//!   body, as c3d.org's samples store them ([`PlateOptions::force_sign`]).
 //! - Where the header and the parameter section disagree, the parameter section wins and a
 //!   warning says so.
 //!
@@ -481,6 +486,34 @@ pub fn to_trial(c3d: &C3d, stem: &str, opts: &ReadOptions) -> Result<Trial, C3dE
 
 /// [`to_trial`] in the flat layout of [`FlatTrial`] (NaN where invalid), as the pipeline reads.
 pub fn to_flat(c3d: &C3d, stem: &str, opts: &ReadOptions) -> Result<FlatTrial, C3dError> {
+    let mut flat = flat_trial(c3d, stem, opts)?;
+    let to_m = crate::trial::LengthUnit::Millimetres.to_metres();
+    flat.tracks = c3d
+        .points_mm
+        .iter()
+        .map(|t| t.iter().map(|p| p.map(|v| v * to_m)).collect())
+        .collect();
+    Ok(flat)
+}
+
+/// [`to_flat`] taking the file's points over (converted in place, no copy).
+pub fn into_flat(mut c3d: C3d, stem: &str, opts: &ReadOptions) -> Result<FlatTrial, C3dError> {
+    let mut flat = flat_trial(&c3d, stem, opts)?;
+    // Millimetres to metres as the CSV reader converts them, so a converted file reads back
+    // to the same numbers.
+    let to_m = crate::trial::LengthUnit::Millimetres.to_metres();
+    let mut tracks = std::mem::take(&mut c3d.points_mm);
+    for p in tracks.iter_mut().flatten() {
+        for v in p.iter_mut() {
+            *v *= to_m;
+        }
+    }
+    flat.tracks = tracks;
+    Ok(flat)
+}
+
+/// The trial of [`to_flat`] without its tracks.
+fn flat_trial(c3d: &C3d, stem: &str, opts: &ReadOptions) -> Result<FlatTrial, C3dError> {
     let invalid = |message: String| C3dError::Invalid {
         file: c3d.file.clone(),
         message,
@@ -508,14 +541,6 @@ pub fn to_flat(c3d: &C3d, stem: &str, opts: &ReadOptions) -> Result<FlatTrial, C
     } else {
         1.0 / fitted_interval_s(&times_s)
     };
-    // Millimetres to metres as the CSV reader converts them, so a converted file reads back
-    // to the same numbers.
-    let to_m = crate::trial::LengthUnit::Millimetres.to_metres();
-    let tracks = c3d
-        .points_mm
-        .iter()
-        .map(|t| t.iter().map(|p| p.map(|v| v * to_m)).collect())
-        .collect();
     let warnings = c3d
         .warnings
         .iter()
@@ -534,7 +559,7 @@ pub fn to_flat(c3d: &C3d, stem: &str, opts: &ReadOptions) -> Result<FlatTrial, C
             },
             warnings,
         },
-        tracks,
+        tracks: Vec::new(),
     })
 }
 
@@ -547,7 +572,7 @@ pub fn read_flat(
     opts: &ReadOptions,
 ) -> Result<FlatTrial, C3dError> {
     let c3d = parse(bytes, &path.display().to_string(), &C3dOptions::default())?;
-    to_flat(&c3d, stem, opts)
+    into_flat(c3d, stem, opts)
 }
 
 /// Reads a C3D file as a [`Trial`] (the stem of its name becomes the trial's name).

@@ -222,11 +222,8 @@ pub fn parse(section: &[u8], section_start: usize) -> Result<Parameters, String>
             at(p)
         )
     };
-    loop {
-        let Some(&[len_byte, id_byte]) = section.get(pos..pos + 2) else {
-            // No room for another record: the section simply ends.
-            break;
-        };
+    // The section ends where no room is left for another record.
+    while let Some(&[len_byte, id_byte]) = section.get(pos..pos + 2) {
         let name_len = (len_byte as i8).unsigned_abs() as usize;
         let locked = (len_byte as i8) < 0;
         let group_id = id_byte as i8;
