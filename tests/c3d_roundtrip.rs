@@ -441,3 +441,119 @@ fn zero_frames_give_the_baseline() {
     assert_eq!(p.samples[3].cop_m, None);
     assert_eq!(p.samples[15].force_n[2], 700.0);
 }
+
+/// A type-1 plate (Fx, Fy, Fz, Px, Py, Tz) and a type-3 plate (eight sensor channels under the
+/// corners) under a known load give it back (statics, as for types 2 and 4 above).
+#[test]
+fn type_1_and_type_3_plates_return_a_known_load() {
+    let n = 10;
+    let depth = 0.040;
+    let (a, b) = (0.21, 0.16); // type 3: half sensor spacings, m
+    let centers = [[0.3, 0.2, 0.0], [0.9, 0.2, 0.0]];
+    let cops = [[0.27, 0.31, 0.0], [0.95, 0.12, 0.0]];
+    let grf = [-15.0, 25.0, 650.0];
+    let tz = -3.0;
+    let to_plate = |v: [f64; 3]| [v[0], -v[1], -v[2]];
+    let f = to_plate(grf);
+    // Type 1: the CoP in plate coordinates about the transducer (mm), the free moment (N mm).
+    let r1 = to_plate([
+        cops[0][0] - centers[0][0],
+        cops[0][1] - centers[0][1],
+        depth,
+    ]);
+    let t1 = [f[0], f[1], f[2], r1[0] * 1e3, r1[1] * 1e3, -tz * 1e3];
+    // Type 3: sensor forces whose resultant about the sensor-plane center is F, M.
+    let r3 = to_plate([
+        cops[1][0] - centers[1][0],
+        cops[1][1] - centers[1][1],
+        depth,
+    ]);
+    let m = cross(r3, f);
+    let m = [m[0], m[1], m[2] - tz];
+    let (s, p, q) = (f[2], m[0] / b, m[1] / a);
+    let fz = [
+        (s + p - q) / 4.0,
+        (s + p + q) / 4.0,
+        (s - p + q) / 4.0,
+        (s - p - q) / 4.0,
+    ];
+    let d = m[2] / b; // Fx34 - Fx12, with Fy14 = Fy23
+    let t3 = [
+        (f[0] - d) / 2.0,
+        (f[0] + d) / 2.0,
+        f[1] / 2.0,
+        f[1] / 2.0,
+        fz[0],
+        fz[1],
+        fz[2],
+        fz[3],
+    ];
+    let values: Vec<Vec<f64>> = t1.iter().chain(&t3).map(|v| vec![*v; n]).collect();
+    let units = [
+        "N", "N", "N", "mm", "mm", "Nmm", "N", "N", "N", "N", "N", "N", "N", "N",
+    ];
+    let rec = Recording {
+        labels: vec!["A".into()],
+        points: vec![vec![Some([0.0; 3]); n]],
+        analog: AnalogSpec {
+            labels: (1..=14).map(|i| format!("CH{i}")).collect(),
+            units: units.iter().map(|s| s.to_string()).collect(),
+            samples_per_frame: 1,
+            scale: vec![1.0; 14],
+            offset: vec![0; 14],
+            gen_scale: 1.0,
+            unsigned: false,
+            values,
+        },
+        plates: vec![
+            PlateSpec {
+                plate_type: 1,
+                channels: (1..=6).collect(),
+                corners: corners([300.0, 200.0]),
+                origin: [0.0, 0.0, -40.0],
+                cal_matrix: None,
+            },
+            PlateSpec {
+                plate_type: 3,
+                channels: (7..=14).collect(),
+                corners: corners([900.0, 200.0]),
+                origin: [210.0, 160.0, -40.0],
+                cal_matrix: None,
+            },
+        ],
+        ..Recording::default()
+    };
+    let c = round_trip(&rec, &C3dOptions::default());
+    assert_eq!(c.plates.plates.len(), 2, "{:?}", c.warnings);
+    for (k, plate) in c.plates.plates.iter().enumerate() {
+        let s = plate.samples[4];
+        let transducer = [centers[k][0], centers[k][1], -depth];
+        let r = [
+            cops[k][0] - transducer[0],
+            cops[k][1] - transducer[1],
+            cops[k][2] - transducer[2],
+        ];
+        let mm = cross(r, grf);
+        let moment = [mm[0], mm[1], mm[2] + tz];
+        let cop = s.cop_m.unwrap();
+        for i in 0..3 {
+            assert!(
+                (s.force_n[i] - grf[i]).abs() < 1e-3,
+                "type {}: {:?}",
+                plate.plate_type,
+                s.force_n
+            );
+            assert!(
+                (s.moment_nm[i] - moment[i]).abs() < 1e-3,
+                "type {}: {:?} vs {moment:?}",
+                plate.plate_type,
+                s.moment_nm
+            );
+            assert!(
+                (cop[i] - cops[k][i]).abs() < 1e-6,
+                "type {}: {cop:?}",
+                plate.plate_type
+            );
+        }
+    }
+}

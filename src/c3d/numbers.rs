@@ -188,7 +188,10 @@ mod tests {
             assert_eq!(dec_to_f32(f32_to_dec(v).unwrap()), v);
         }
         // Exponent 1: 0.1b x 2^-127 = 2^-128.
-        assert_eq!(dec_to_f32([0x80, 0x00, 0x00, 0x00]), f32::from_bits(1 << 21));
+        assert_eq!(
+            dec_to_f32([0x80, 0x00, 0x00, 0x00]),
+            f32::from_bits(1 << 21)
+        );
         // Exponent 255: the largest DEC numbers, beyond IEEE's exponent 254 after the shift.
         assert!(dec_to_f32([0xff, 0x7f, 0xff, 0xff]) > 1.0e38);
     }
