@@ -32,7 +32,7 @@
 //!   statics: Fx = Fx12 + Fx34, Fy = Fy14 + Fy23, Fz = sum Fzk, Mx = b (Fz1 + Fz2 - Fz3 - Fz4),
 //!   My = a (-Fz1 + Fz2 + Fz3 - Fz4), Mz = b (Fx34 - Fx12) + a (Fy14 - Fy23).
 //! - TYPE 4: as TYPE 2 after the 6 x 6 CAL_MATRIX: corrected = CAL x measured, the matrix read
-//!   in the specification's Fortran order (first index = row, varying fastest). With a third
+//!   in the specification's column order (first index = row, varying fastest). With a third
 //!   dimension of at least USED the matrix of plate k is the k-th; otherwise the k-th of the
 //!   type-4 plates. Not checked against a file of another writer (the c3d.org type-2/type-4
 //!   pair is not among the samples at hand).
@@ -57,8 +57,15 @@
 //! [`PlateOptions::min_force_n`].
 //!
 //! Units: forces are taken as N; moment channels by their ANALOG:UNITS (`Nmm`, `ntmm`, `N.mm`
-//! are N mm; `Nm`, `N.m` are N m; anything else is taken as N mm with a warning); type-1 CoP
-//! channels by their unit (mm, cm, m; else POINT:UNITS).
+//! are N mm; `Nm`, `N.m` are N m; anything else, such as the `V` of raw type-4 channels, is
+//! taken as N x POINT:UNITS, every distance of a C3D file being in POINT:UNITS, with a warning);
+//! type-1 CoP channels by their unit (mm, cm, m; else POINT:UNITS).
+//!
+//! TYPE 4: the specification stores CAL_MATRIX in column order (CAL_MATRIX(1,1,1) the first
+//! element, CAL_MATRIX(6,1,1) the last of the first column) and applies it as
+//! `[CAL] F_measured = F_corrected`; it is applied here to the channel values as scaled by
+//! ANALOG:SCALE and GEN_SCALE, so the file's SCALE of those channels must be their unscaled
+//! (volts per bit) value, as the specification requires of writers.
 
 use super::params::Parameters;
 use super::Analog;
@@ -444,11 +451,11 @@ pub fn compute(
             Some(f) => f,
             None => {
                 warnings.push(format!(
-                    "force plate {number}: analog channel {c} (`{}`) has unit `{}`; it is read as N mm",
+                    "force plate {number}: analog channel {c} (`{}`) has unit `{}`; its moments are read in N x POINT:UNITS",
                     analog.labels.get(c - 1).map_or("", |s| s.as_str()),
                     unit_of(c)
                 ));
-                1e-3
+                to_m
             }
         };
         let (m_scale, p_scale) = match t {
