@@ -168,11 +168,12 @@ pub fn has_c3d_extension(path: &Path) -> bool {
         .is_some_and(|e| e.eq_ignore_ascii_case("c3d"))
 }
 
-/// Whether the bytes start like a C3D file: byte 2 is 0x50 and the parameter section that
-/// byte 1 points to names a processor type (84, 85 or 86).
+/// Whether the bytes start like a C3D file: byte 2 is 0x50, byte 1 (the parameter block) is
+/// a control byte, 1 to 31 (a text file never starts so), and the parameter section it points
+/// to names a processor type (84, 85 or 86).
 pub fn looks_like_c3d(bytes: &[u8]) -> bool {
     match bytes {
-        [block, MAGIC, ..] if *block >= 1 => {
+        [block, MAGIC, ..] if (1..32).contains(block) => {
             let at = (*block as usize - 1) * BLOCK + 3;
             bytes
                 .get(at)
@@ -187,8 +188,8 @@ pub fn is_c3d(path: &Path, bytes: &[u8]) -> bool {
     has_c3d_extension(path) || looks_like_c3d(bytes)
 }
 
-/// Whether the file at `path` is to be read as C3D: its extension, or its first bytes (byte 2
-/// is 0x50 and the parameter section names a processor type). Unreadable files are not.
+/// Whether the file at `path` is to be read as C3D: its extension, or its first bytes (as
+/// [`looks_like_c3d`] checks them). Unreadable files are not.
 pub fn is_c3d_file(path: &Path) -> bool {
     use std::io::{Read, Seek, SeekFrom};
     if has_c3d_extension(path) {
@@ -198,7 +199,7 @@ pub fn is_c3d_file(path: &Path) -> bool {
         return false;
     };
     let mut head = [0u8; 2];
-    if f.read_exact(&mut head).is_err() || head[1] != MAGIC || head[0] == 0 {
+    if f.read_exact(&mut head).is_err() || head[1] != MAGIC || !(1..32).contains(&head[0]) {
         return false;
     }
     let mut b = [0u8; 1];
