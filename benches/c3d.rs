@@ -59,19 +59,22 @@ fn main() -> Res<()> {
         csv1.push(timed(|| read_csv(&csv_path, 1))?);
         csvn.push(timed(|| read_csv(&csv_path, cores))?);
     }
-    // The two files give the same markers (the c3d holds 32-bit floats, the csv 2 decimals).
+    // The two files give the same markers: the csv holds 2 decimals of mm, the c3d 32-bit floats
+    // (7 significant digits: 0.06 mm at the 780 m the 20-minute walk reaches).
     let (a, b) = (read_c3d(&c3d_path)?, read_csv(&csv_path, cores)?);
-    let same = a.tracks.len() == b.tracks.len()
-        && a.tracks.iter().zip(&b.tracks).all(|(x, y)| {
-            x.len() == y.len()
-                && x.iter().zip(y).all(|(p, q)| {
-                    p.iter()
-                        .zip(q)
-                        .all(|(u, v)| (u.is_nan() && v.is_nan()) || (u - v).abs() < 1e-5)
-                })
-        });
-    if !same {
-        return Err("the c3d and the csv give different markers".into());
+    if a.tracks.len() != b.tracks.len() {
+        return Err("the c3d and the csv give different marker counts".into());
+    }
+    for (m, (x, y)) in a.tracks.iter().zip(&b.tracks).enumerate() {
+        for (f, (p, q)) in x.iter().zip(y).enumerate() {
+            let same = p
+                .iter()
+                .zip(q)
+                .all(|(u, v)| (u.is_nan() && v.is_nan()) || (u - v).abs() <= 1e-5 + 1e-7 * v.abs());
+            if !same {
+                return Err(format!("marker {m} frame {f}: c3d {p:?}, csv {q:?}").into());
+            }
+        }
     }
     let (t_c3d, t_csv1, t_csvn) = (median(&c3d), median(&csv1), median(&csvn));
     println!(
