@@ -110,6 +110,26 @@ enum Command {
     /// Print the man page (roff, generated from this command line's definition).
     #[command(after_help = MAN_HELP)]
     Man,
+    /// Write a C3D file's points as a wide trial CSV (<out>/<stem>.csv, mm) and its force plates
+    /// as <out>/<stem>.plates.csv.
+    Convert(ConvertArgs),
+}
+
+#[derive(Args, Debug)]
+struct ConvertArgs {
+    /// C3D file.
+    trial: PathBuf,
+    /// Output folder.
+    #[arg(long)]
+    out: PathBuf,
+    /// How FORCE_PLATFORM:ORIGIN is applied: auto (negated when its z is positive), as-stored,
+    /// negated.
+    #[arg(long, default_value = "auto", value_parser = ["auto", "as-stored", "negated"])]
+    plate_origin: String,
+    /// What the scaled plate channels hold: reaction (the load on the body, as in c3d.org's
+    /// samples) or action (the load on the plate).
+    #[arg(long, default_value = "reaction", value_parser = ["reaction", "action"])]
+    plate_force: String,
 }
 
 #[derive(Args, Debug, Clone, Default)]
@@ -196,7 +216,7 @@ impl PlotArgs {
 
 #[derive(Args, Debug)]
 struct TrialArgs {
-    /// Trial CSV (wide or tidy layout).
+    /// Trial file: CSV (wide or tidy layout) or C3D.
     trial: PathBuf,
     #[command(flatten)]
     subject: SubjectArgs,
@@ -218,7 +238,7 @@ struct TrialArgs {
 
 #[derive(Args, Debug)]
 struct CutoffArgs {
-    /// Trial CSV.
+    /// Trial file (CSV or C3D).
     trial: PathBuf,
     #[command(flatten)]
     setup: SetupArgs,
@@ -238,7 +258,8 @@ struct TablesArgs {
 
 #[derive(Args, Debug)]
 struct LandmarksArgs {
-    /// Trial CSV: print a [landmarks] template matching its labels.
+    /// Trial file (CSV or C3D): print a [landmarks] template matching its labels (and, for a
+    /// C3D, its point descriptions).
     trial: Option<PathBuf>,
 }
 
@@ -292,6 +313,7 @@ pub fn run() -> Result<ExitCode> {
                 .context("cannot write the man page to standard output")?;
             Ok(ExitCode::SUCCESS)
         }
+        Command::Convert(a) => convert(&a, &ui),
     }
 }
 
@@ -449,7 +471,11 @@ fn trial_line(s: &gravline::report::Summary) -> String {
 
 fn cutoff(a: &CutoffArgs) -> Result<ExitCode> {
     let config = config(&a.setup)?;
-    let trial = gravline::trial::read_trial(&a.trial, &config.read_options())?;
+    let trial = if gravline::c3d::is_c3d_file(&a.trial) {
+        gravline::c3d::read_trial(&a.trial, &config.read_options())?
+    } else {
+        gravline::trial::read_trial(&a.trial, &config.read_options())?
+    };
     let report = gravline::signal::cutoff::analyse_trial(&trial);
     print!("{}", report.describe());
     match report.overall_hz() {
@@ -509,7 +535,13 @@ fn landmarks(a: &LandmarksArgs) -> Result<ExitCode> {
     let Some(path) = &a.trial else {
         return Ok(ExitCode::SUCCESS);
     };
-    let labels = gravline::trial::read_labels(path)?;
+    let labels = if gravline::c3d::is_c3d_file(path) {
+        let c3d = gravline::c3d::read(path, &Default::default())?;
+        print!("\n{}", gravline::c3d::describe_points(&c3d));
+        c3d.labels
+    } else {
+        gravline::trial::read_labels(path)?
+    };
     println!(
         "\n# [landmarks] template for {}: live lines only where a label matches a landmark",
         path.display()
@@ -703,7 +735,7 @@ fn demo_row(
 #[derive(Args, Debug)]
 struct BatchArgs {
     /// Manifest CSV (trial, subject, mass_kg, height_m, sex, [condition, config, ...]), or a
-    /// folder whose *.csv files are the trials.
+    /// folder whose *.csv and *.c3d files are the trials.
     input: PathBuf,
     /// Output folder.
     #[arg(long)]
@@ -810,4 +842,52 @@ fn merge(a: &MergeArgs, ui: &Ui) -> Result<ExitCode> {
     } else {
         ExitCode::SUCCESS
     })
+}
+
+fn convert(a: &ConvertArgs, ui: &Ui) -> Result<ExitCode> {
+    let origin = gravline::c3d::OriginSign::parse(&a.plate_origin).with_context(|| {
+        format!(
+            "--plate-origin `{}`: give auto, as-stored or negated",
+            a.plate_origin
+        )
+    })?;
+    let options = gravline::c3d::C3dOptions {
+        plates: gravline::c3d::PlateOptions {
+            origin,
+            force_sign: gravline::c3d::ForceSign::parse(&a.plate_force).with_context(|| {
+                format!("--plate-force `{}`: give reaction or action", a.plate_force)
+            })?,
+            ..Default::default()
+        },
+    };
+    let c3d = gravline::c3d::read(&a.trial, &options)?;
+    let stem = gravline::c3d::stem_of(&a.trial);
+    ui.warnings(&stem, &c3d.warnings);
+    let points = a.out.join(format!("{stem}.csv"));
+    gravline::report::write_atomic(&points, |w| {
+        gravline::c3d::convert::write_points_csv(&c3d, w)
+    })
+    .with_context(|| format!("cannot write {}", points.display()))?;
+    ui.info(&format!(
+        "{}: {} points, {} frames at {} Hz -> {}",
+        a.trial.display(),
+        c3d.labels.len(),
+        c3d.n_frames(),
+        c3d.rate_hz,
+        points.display()
+    ));
+    if !c3d.plates.plates.is_empty() {
+        let plates = a.out.join(format!("{stem}.plates.csv"));
+        gravline::report::write_atomic(&plates, |w| {
+            gravline::c3d::convert::write_plates_csv(&c3d, w)
+        })
+        .with_context(|| format!("cannot write {}", plates.display()))?;
+        ui.info(&format!(
+            "{} force plates at {} Hz -> {}",
+            c3d.plates.plates.len(),
+            c3d.plates.rate_hz,
+            plates.display()
+        ));
+    }
+    Ok(ExitCode::SUCCESS)
 }

@@ -444,10 +444,12 @@ impl Config {
             Some("hara-2016") => HipMethod::Hara2016,
             Some("dumas-2007") => HipMethod::Dumas2007,
             Some("given") => HipMethod::Given,
-            Some(other) => return Err(invalid(format!(
+            Some(other) => {
+                return Err(invalid(format!(
                 "[model] hip = {}; use harrington-2007, bell-1990, hara-2016, dumas-2007 or given",
                 q(other)
-            ))),
+            )))
+            }
         };
         let arms = match raw.model.arms.as_deref() {
             None | Some("required") => ArmsMode::Required,

@@ -31,6 +31,8 @@ pub mod anthropometry;
 pub mod batch;
 /// Landmarks, joint centers and segments.
 pub mod body;
+/// Reading C3D files: points, analog channels, force plates; the C3D writer and converter.
+pub mod c3d;
 /// Declarations (units, up axis) checked against the data; implausible figures.
 pub mod checks;
 /// Segment CoMs, the weighted whole-body CoM, loads, groups, XCoM.

@@ -588,6 +588,8 @@ pub enum Error {
     #[error(transparent)]
     Trial(#[from] crate::trial::TrialError),
     #[error(transparent)]
+    C3d(#[from] crate::c3d::C3dError),
+    #[error(transparent)]
     Config(#[from] crate::config::ConfigError),
     #[error(transparent)]
     Table(#[from] crate::anthropometry::TableError),
@@ -681,13 +683,19 @@ pub fn process_file(
     // The digest is taken on its own thread while the numbers are parsed.
     let (input_sha256, trial) = std::thread::scope(|s| {
         let digest = (threads > 1).then(|| s.spawn(|| crate::report::sha256_hex(&bytes)));
-        let trial = crate::trial::read_trial_bytes(
-            &bytes,
-            &path.display().to_string(),
-            &stem,
-            &setup.config.read_options(),
-            threads,
-        );
+        let trial = if crate::c3d::is_c3d(path, &bytes) {
+            crate::c3d::read_trial_bytes(&bytes, path, &stem, &setup.config.read_options())
+                .map_err(Error::from)
+        } else {
+            crate::trial::read_trial_bytes(
+                &bytes,
+                &path.display().to_string(),
+                &stem,
+                &setup.config.read_options(),
+                threads,
+            )
+            .map_err(Error::from)
+        };
         let sha = match digest.map(|d| d.join()) {
             Some(Ok(sha)) => sha,
             _ => crate::report::sha256_hex(&bytes),

@@ -26,6 +26,9 @@ pub enum Warning {
     ModelSpread { message: String },
     /// A reading declaration left to its default, and what the data showed.
     Detected { what: String },
+    /// A finding of the C3D reader (header and parameters disagreeing, repeated labels, points
+    /// never valid, force plates skipped).
+    C3d { message: String },
 }
 
 impl fmt::Display for Warning {
@@ -46,6 +49,7 @@ impl fmt::Display for Warning {
             Warning::Plausibility { message } => write!(f, "plausibility: {message}"),
             Warning::ModelSpread { message } => write!(f, "spread between models: {message}"),
             Warning::Detected { what } => write!(f, "detected: {what}"),
+            Warning::C3d { message } => write!(f, "c3d: {message}"),
         }
     }
 }

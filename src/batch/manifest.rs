@@ -55,7 +55,7 @@ pub enum ManifestError {
         missing: String,
         needed: String,
     },
-    #[error("{path}: no trials (no rows, or no *.csv files)")]
+    #[error("{path}: no trials (no rows, or no *.csv or *.c3d files)")]
     Empty { path: String },
     #[error("{path}: {message}")]
     Invalid { path: String, message: String },
@@ -395,7 +395,7 @@ fn plan_manifest(table: Table, folder: &Path, base: Config) -> Result<Plan, Mani
     })
 }
 
-/// Every `*.csv` trial of a folder, sorted by file name, with its subject from `subjects.csv`
+/// Every `*.csv` and `*.c3d` trial of a folder, sorted by file name, with its subject from `subjects.csv`
 /// in the folder (columns `trial` = file name, then as a manifest) or else `defaults.subject`.
 ///
 /// When `out_dir` is the folder itself, the batch's own summary files in it are not trials.
@@ -429,7 +429,7 @@ pub fn read_directory(
         let name = entry.file_name().to_string_lossy().into_owned();
         let is_csv = Path::new(&name)
             .extension()
-            .is_some_and(|e| e.eq_ignore_ascii_case("csv"));
+            .is_some_and(|e| e.eq_ignore_ascii_case("csv") || e.eq_ignore_ascii_case("c3d"));
         // A folder's subject file and a manifest beside the trials are not trials.
         let not_trial = name == SUBJECTS_FILE || name == MANIFEST_FILE;
         if is_csv && !not_trial && !is_output(&name) && entry.path().is_file() {

@@ -92,3 +92,18 @@ pub fn marker_body_points() -> Vec<(&'static str, [f64; 3])> {
     }
     p
 }
+
+/// ../shared/c3d-samples (c3d.org's conformance files, read in place; `GRAVLINE_SHARED` names
+/// another shared folder). Panics when absent: a test that needs them fails without them.
+pub fn c3d_samples_dir() -> PathBuf {
+    let candidates = [
+        std::env::var_os("GRAVLINE_SHARED").map(|s| PathBuf::from(s).join("c3d-samples")),
+        Some(PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../shared/c3d-samples")),
+        Some(PathBuf::from("/work/shared/c3d-samples")),
+    ];
+    candidates
+        .into_iter()
+        .flatten()
+        .find(|d| d.join("formats-six").is_dir())
+        .expect("the c3d.org samples (../shared/c3d-samples) are missing: set GRAVLINE_SHARED to the shared folder")
+}
