@@ -448,7 +448,7 @@ fn run_resolved(
     warnings.extend(floor_warning);
     let floor_m = floor.level_m;
     let spread = config.spread.then(|| {
-        let s = com::spread::compute(&markers, &trial.file, config, subject);
+        let s = com::spread::compute(markers, &trial.file, config, subject);
         warnings.extend(s.warnings(&system, trial.up_axis));
         s
     });
@@ -684,7 +684,15 @@ pub fn process_file(
     let (input_sha256, trial) = std::thread::scope(|s| {
         let digest = (threads > 1).then(|| s.spawn(|| crate::report::sha256_hex(&bytes)));
         let trial = if crate::c3d::is_c3d(path, &bytes) {
-            crate::c3d::read_trial_bytes(&bytes, path, &stem, &setup.config.read_options())
+            // A C3D's force plates go to the plate stage unless a plate file is given.
+            let opts = crate::c3d::C3dOptions::default();
+            crate::c3d::parse(&bytes, &path.display().to_string(), &opts)
+                .and_then(|c3d| {
+                    let plates =
+                        crate::plates::from_c3d(&c3d.plates, setup.config.read_options().up_axis);
+                    crate::c3d::into_trial(c3d, &stem, &setup.config.read_options())
+                        .map(|t| (t, plates))
+                })
                 .map_err(Error::from)
         } else {
             crate::trial::read_trial_bytes(
@@ -694,6 +702,7 @@ pub fn process_file(
                 &setup.config.read_options(),
                 threads,
             )
+            .map(|t| (t, None))
             .map_err(Error::from)
         };
         let sha = match digest.map(|d| d.join()) {
@@ -702,7 +711,7 @@ pub fn process_file(
         };
         (sha, trial)
     });
-    let trial = trial?;
+    let (trial, c3d_plates) = trial?;
     drop(bytes);
     let plates = match &setup.config.plates_file {
         Some(p) => Some(crate::plates::read_plates_file(
@@ -710,7 +719,7 @@ pub fn process_file(
             &setup.config.plates,
             setup.config.up_axis,
         )?),
-        None => None,
+        None => c3d_plates,
     };
     let result = run_trial_with_plates(
         trial,

@@ -885,3 +885,57 @@ pub fn step_plate(
         None => (String::new(), false),
     }
 }
+
+/// The plates of a C3D file as a [`PlateRecording`]: per plate its corners, the force on the
+/// body and the CoP (both already in the lab frame, from [`crate::c3d::plates`]), and the free
+/// moment: the moment about the CoP, M_P = M_O - (P - O) x F (M_O about the transducer origin
+/// O), along the up axis. Where the CoP is unknown (an unloaded plate) the free moment is 0.
+/// The reader already subtracted the FORCE_PLATFORM:ZERO baseline; the stage's own zero offset
+/// (median of the unloaded samples) then finds what is left of it.
+pub fn from_c3d(fp: &crate::c3d::plates::ForcePlates, up: UpAxis) -> Option<PlateRecording> {
+    if fp.plates.is_empty() {
+        return None;
+    }
+    let u = up.unit();
+    let plates = fp
+        .plates
+        .iter()
+        .map(|p| {
+            let free_moment_nm = p
+                .samples
+                .iter()
+                .map(|s| {
+                    let Some(cop) = s.cop_m else {
+                        return 0.0;
+                    };
+                    let r = [
+                        cop[0] - p.transducer_m[0],
+                        cop[1] - p.transducer_m[1],
+                        cop[2] - p.transducer_m[2],
+                    ];
+                    let f = s.force_n;
+                    let r_x_f = [
+                        r[1] * f[2] - r[2] * f[1],
+                        r[2] * f[0] - r[0] * f[2],
+                        r[0] * f[1] - r[1] * f[0],
+                    ];
+                    (0..3).map(|k| (s.moment_nm[k] - r_x_f[k]) * u[k]).sum()
+                })
+                .collect();
+            PlateSamples {
+                name: format!("plate{}", p.number),
+                corners_m: Some(p.corners_m),
+                force_n: p.samples.iter().map(|s| s.force_n).collect(),
+                cop_m: p.samples.iter().map(|s| s.cop_m).collect(),
+                free_moment_nm,
+                offset_n: [0.0; 3],
+            }
+        })
+        .collect();
+    Some(PlateRecording {
+        rate_hz: fp.rate_hz,
+        first_time_s: fp.first_sample_s,
+        plates,
+        zero: ZeroSource::Unloaded,
+    })
+}
