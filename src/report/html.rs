@@ -801,12 +801,13 @@ mod tests {
 
     #[test]
     fn sections_follow_the_movement_first() {
-        let summary: Node = serde_json::from_value(serde_json::json!({
-            "trial": "t",
-            "com": {"mean_height_m": 0.95, "min_m": [0.0, 0.1, 0.9]},
-            "gait": {"walking_speed_m_s": 1.2, "cadence_steps_per_min": 110.0},
-            "lift": null,
-        }))
+        // From text: the tree keeps the document's order of keys.
+        let summary: Node = serde_json::from_str(
+            r#"{"trial": "t",
+                "com": {"mean_height_m": 0.95, "min_m": [0.0, 0.1, 0.9]},
+                "gait": {"walking_speed_m_s": 1.2, "cadence_steps_per_min": 110.0},
+                "lift": null}"#,
+        )
         .unwrap();
         let sections = key_sections(&summary);
         let titles: Vec<&str> = sections.iter().map(|s| s.title.as_str()).collect();
