@@ -36,6 +36,8 @@ pub mod body;
 pub mod com;
 /// Configuration and subject, validated once.
 pub mod config;
+/// Strides and repetitions resampled to 0-100 % (cycles.csv).
+pub mod cycles;
 /// One trial through every stage.
 pub mod pipeline;
 /// frames.csv, steps.csv, summary.json and plots.

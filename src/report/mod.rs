@@ -80,6 +80,11 @@ pub fn write_outputs(
         let reps = dir.join("reps.csv");
         write_atomic(&reps, |w| write_reps(result, w)).map_err(err(&reps))?;
     }
+    let cycles = crate::cycles::of_result(result);
+    if !cycles.is_empty() {
+        let path = dir.join("cycles.csv");
+        write_atomic(&path, |w| crate::cycles::write_cycles(&cycles, w)).map_err(err(&path))?;
+    }
     for format in plots {
         plots::write_plots(dir, result, summary, *format)?;
     }
