@@ -550,6 +550,16 @@ pub fn process_file(
     dir: &std::path::Path,
     options: &OutputOptions,
 ) -> Result<crate::report::Summary, Error> {
+    process_file_keep(path, setup, dir, options).map(|(summary, _)| summary)
+}
+
+/// [`process_file`], also returning the trial's result (for the batch's dataset).
+pub fn process_file_keep(
+    path: &std::path::Path,
+    setup: &Setup,
+    dir: &std::path::Path,
+    options: &OutputOptions,
+) -> Result<(crate::report::Summary, TrialResult), Error> {
     let bytes = crate::trial::TrialBytes::open(path).map_err(|source| Error::Read {
         path: path.display().to_string(),
         source,
@@ -594,5 +604,5 @@ pub fn process_file(
         || crate::report::write_outputs(dir, &result, &summary, &options.plots),
     );
     written?;
-    Ok(summary)
+    Ok((summary, result))
 }

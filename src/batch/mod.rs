@@ -88,6 +88,8 @@
 //! With `--resume`, a task that was pre-empted and restarted continues where it stopped. The
 //! Parquet summary reads straight into dataframe and SQL engines.
 
+pub mod curves;
+pub mod dataset;
 pub mod manifest;
 pub mod progress;
 pub mod table;
@@ -164,6 +166,9 @@ pub enum BatchError {
     NoJobs,
     #[error("{0}")]
     Merge(String),
+    /// The frame-level dataset or the group curves could not be written or read.
+    #[error("{0}")]
+    Dataset(String),
 }
 
 /// What a batch (or a merge) did.
@@ -266,7 +271,13 @@ pub fn run(
         count(TrialOutcome::Failed),
     );
     let rows: Vec<Row> = results.into_iter().map(|r| r.0).collect();
-    let files = write_summary(&options.out_dir, options.shard, &rows)?;
+    let mut files = write_summary(&options.out_dir, options.shard, &rows)?;
+    if options.shard.is_none() {
+        let figures = !options.output.plots.is_empty();
+        files.extend(
+            curves::write_all(&options.out_dir, &rows, figures).map_err(BatchError::Dataset)?,
+        );
+    }
     Ok(Outcome {
         rows,
         ran,
@@ -307,18 +318,32 @@ fn run_job(
     };
     let dir = trials.join(&job.id);
     let json = dir.join("summary.json");
-    if options.resume {
+    let part = dataset::TrialKey {
+        id: &job.id,
+        subject: job.subject.as_deref(),
+        condition: job.condition.as_deref(),
+    };
+    if options.resume && dataset::has_trial(&options.out_dir, &part) {
         if let Some(stored) = reusable(&job.path, &setup, &json) {
             return (Row::ok(&key, &stored), TrialOutcome::Skipped, None);
         }
     }
     clear_stale(&dir);
+    dataset::remove_trial(&options.out_dir, &part);
     // A panic in a stage is a bug; it fails this trial only, and the batch goes on.
     let result = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-        pipeline::process_file(&job.path, &setup, &dir, &options.output)
+        let (summary, result) =
+            pipeline::process_file_keep(&job.path, &setup, &dir, &options.output)?;
+        // The dataset files come after summary.json; a resume trusts a trial only with both.
+        dataset::write_trial(&options.out_dir, &part, &result, &summary).map_err(|e| {
+            pipeline::Error::Write {
+                path: "dataset".into(),
+                source: std::io::Error::other(e),
+            }
+        })
     }));
     match result {
-        Ok(Ok(_)) => match read_stored(&json) {
+        Ok(Ok(())) => match read_stored(&json) {
             Ok(stored) => (Row::ok(&key, &stored), TrialOutcome::Ran, None),
             Err(message) => fail(message),
         },
@@ -448,9 +473,35 @@ pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> 
             missing.join(", ")
         )));
     }
+    // Each shard's dataset sits beside its summary; its trials join the dataset in `out_dir`.
+    // Summaries without any dataset beside them (written by hand, or by a version before the
+    // dataset) merge as tables only.
+    let folder = |k: usize| {
+        inputs[k]
+            .parent()
+            .filter(|p| !p.as_os_str().is_empty())
+            .unwrap_or(Path::new("."))
+    };
+    let with_dataset = (0..inputs.len()).any(|k| folder(k).join("dataset").is_dir());
+    for (_, k, row) in rows.iter().filter(|_| with_dataset) {
+        if !row.is_ok() {
+            continue;
+        }
+        let from = folder(*k);
+        let text = |c: &str| row.get(c).and_then(table::Cell::as_str);
+        let part = dataset::TrialKey {
+            id: text("id").unwrap_or_default(),
+            subject: text("subject"),
+            condition: text("condition"),
+        };
+        dataset::import_trial(from, out_dir, &part).map_err(BatchError::Dataset)?;
+    }
     let rows: Vec<Row> = rows.into_iter().map(|r| r.2).collect();
     let failed = rows.iter().filter(|r| !r.is_ok()).count();
-    let files = write_summary(out_dir, None, &rows)?;
+    let mut files = write_summary(out_dir, None, &rows)?;
+    if with_dataset {
+        files.extend(curves::write_all(out_dir, &rows, true).map_err(BatchError::Dataset)?);
+    }
     Ok(Outcome {
         ran: 0,
         skipped: 0,

@@ -33,6 +33,7 @@
 //! Each file is written through a temporary name in the same folder and a rename (as
 //! [`crate::report::write_atomic`]), so an interrupted run never leaves a truncated figure.
 
+mod group;
 mod lift;
 mod path;
 mod series;
@@ -47,6 +48,7 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::OnceLock;
 
+pub use group::{write_group_png, GroupCurve, GroupFigure};
 pub use style::FIGURE_SIZE_PX;
 
 /// Half-width of the mid-foot band when the result has no lift series, metres (common practice,
