@@ -87,6 +87,12 @@
 //!
 //! With `--resume`, a task that was pre-empted and restarted continues where it stopped. The
 //! Parquet summary reads straight into dataframe and SQL engines.
+//!
+//! **Study dataset and group curves.** Every trial's frames and cycles also go into a
+//! hive-partitioned Parquet dataset under `<out>/dataset/` ([`dataset`]), and a whole run (or a
+//! merge, which joins the shards' datasets) writes `group_cycles.csv`/`.parquet` and the group
+//! figures ([`curves`]). `--resume` trusts a trial only when its `summary.json` matches and both
+//! of its dataset files exist. `examples/slurm/array.sh` runs the recipe as a Slurm array job.
 
 pub mod curves;
 pub mod dataset;
