@@ -3,7 +3,8 @@
 //! data), with every per-trial output, the frame-level Parquet dataset and the group curves
 //! (plots off).
 //!
-//! Measures, on the release binary, each run repeated [`REPEATS`] times (medians reported):
+//! Measures, on the release binary, each run repeated [`REPEATS`] times (medians reported;
+//! `cargo bench --bench batch_short -- --repeats N` for another count):
 //! - trials per second with `--jobs 1` and `--jobs 2` (2 000 trials);
 //! - per-trial wall time for 500 and for 2 000 trials (`--jobs 2`): their ratio shows whether
 //!   the per-trial cost grows with the number of trials (it should stay near 1);
@@ -27,7 +28,18 @@ const RATE_HZ: f64 = 100.0;
 const DURATION_S: f64 = 10.0;
 const MARKERS: usize = 45;
 const DISTINCT: usize = 50;
+/// Runs of each measurement (default; `-- --repeats N` to change).
 const REPEATS: usize = 3;
+
+/// `--repeats N` from the bench's arguments, else [`REPEATS`].
+fn repeats() -> usize {
+    let args: Vec<String> = std::env::args().collect();
+    args.iter()
+        .position(|a| a == "--repeats")
+        .and_then(|i| args.get(i + 1)?.parse().ok())
+        .filter(|&n: &usize| n > 0)
+        .unwrap_or(REPEATS)
+}
 
 /// Writes `n` trials (hard links to `DISTINCT` generated ones) and a manifest; the manifest.
 fn write_batch(dir: &Path, sources: &[PathBuf], n: usize) -> PathBuf {
@@ -188,7 +200,8 @@ fn main() {
     };
     writeln!(
         out,
-        "batch_short bench: trials of {n_frames} frames x {MARKERS} markers ({DURATION_S} s at {RATE_HZ} Hz), {DISTINCT} distinct; medians of {REPEATS} runs; load average {}",
+        "batch_short bench: trials of {n_frames} frames x {MARKERS} markers ({DURATION_S} s at {RATE_HZ} Hz), {DISTINCT} distinct; medians of {} runs; load average {}",
+        repeats(),
         load()
     )
     .ok();
@@ -224,7 +237,7 @@ fn main() {
         one_s / two_s
     )
     .ok();
-    let shares: Vec<(f64, f64)> = (0..REPEATS)
+    let shares: Vec<(f64, f64)> = (0..repeats())
         .map(|_| split_times(&sources, &root.join("split"), 200))
         .collect();
     let share = median(shares.iter().map(|(c, w)| w / (c + w)).collect());
