@@ -550,16 +550,18 @@ pub fn process_file(
     dir: &std::path::Path,
     options: &OutputOptions,
 ) -> Result<crate::report::Summary, Error> {
-    process_file_keep(path, setup, dir, options).map(|(summary, _)| summary)
+    process_file_then(path, setup, dir, options, |_, _| Ok(()))
 }
 
-/// [`process_file`], also returning the trial's result (for the batch's dataset).
-pub fn process_file_keep(
+/// [`process_file`], running `before_summary` on the result after the other outputs are written
+/// and before `summary.json` (the batch writes its dataset files there).
+pub fn process_file_then(
     path: &std::path::Path,
     setup: &Setup,
     dir: &std::path::Path,
     options: &OutputOptions,
-) -> Result<(crate::report::Summary, TrialResult), Error> {
+    before_summary: impl FnOnce(&TrialResult, &crate::report::Summary) -> Result<(), Error>,
+) -> Result<crate::report::Summary, Error> {
     let bytes = crate::trial::TrialBytes::open(path).map_err(|source| Error::Read {
         path: path.display().to_string(),
         source,
@@ -601,8 +603,16 @@ pub fn process_file_keep(
     let ((), written) = signal::both(
         threads,
         || drop(markers),
-        || crate::report::write_outputs(dir, &result, &summary, &options.plots),
+        || {
+            crate::report::write_outputs_then(
+                dir,
+                &result,
+                &summary,
+                &options.plots,
+                before_summary,
+            )
+        },
     );
     written?;
-    Ok((summary, result))
+    Ok(summary)
 }

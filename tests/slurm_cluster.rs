@@ -299,16 +299,10 @@ fn an_array_job_with_a_cancelled_task_merges_to_the_unsharded_run() {
     let out = tmp.path().join("out");
     let job = cluster.submit(&format!("1-{TASKS}"), &input, &out);
     // Task 2 is cancelled once it has finished its first trial, before its last. A trial is
-    // finished when its frames file is in the dataset (the last file a trial writes).
-    let frames_file = |id: &str| {
-        let i: usize = id.trim_start_matches("walk").parse().unwrap();
-        out.join(format!(
-            "dataset/frames/subject=s{}/condition={}/{id}.parquet",
-            i % 3 + 1,
-            ["normal", "dual_task"][i % 2]
-        ))
-    };
-    let done = |ids: &[String]| ids.iter().filter(|id| frames_file(id).is_file()).count();
+    // finished when its `summary.json` is written (the last file a trial writes).
+    let trials = out.join("trials");
+    let finished_file = |id: &str| trials.join(id).join("summary.json");
+    let done = |ids: &[String]| ids.iter().filter(|id| finished_file(id).is_file()).count();
     let ids2 = shard_ids(2);
     let wait_start = Instant::now();
     while done(&ids2) == 0 {
@@ -340,7 +334,7 @@ fn an_array_job_with_a_cancelled_task_merges_to_the_unsharded_run() {
     let kept: Vec<(String, std::time::SystemTime)> = ids2
         .iter()
         .filter_map(|id| {
-            let m = std::fs::metadata(frames_file(id)).ok()?;
+            let m = std::fs::metadata(finished_file(id)).ok()?;
             Some((id.clone(), m.modified().ok()?))
         })
         .collect();
@@ -350,7 +344,7 @@ fn an_array_job_with_a_cancelled_task_merges_to_the_unsharded_run() {
     let states = cluster.wait(&again);
     assert!(states.iter().all(|(_, s)| s == "COMPLETED"), "{states:?}");
     for (id, modified) in &kept {
-        let now = std::fs::metadata(frames_file(id))
+        let now = std::fs::metadata(finished_file(id))
             .and_then(|m| m.modified())
             .unwrap();
         assert_eq!(

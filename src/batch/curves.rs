@@ -7,7 +7,8 @@
 //! Outputs in the batch folder: `group_cycles.csv` and `group_cycles.parquet` (the same long
 //! table: `by` = `subject_condition` | `condition`, `subject`, `condition`, `kind`, `side`,
 //! `curve`, `percent`, `n_trials`, `n` (cycles with a value), `mean`, `sd` (empty for n < 2),
-//! in the unit of the curve's name), and, unless plots are off, a figure per main curve
+//! in the unit of the curve's name; written when some trial has a stride or a repetition), and,
+//! unless plots are off, a figure per main curve
 //! ([`MAIN_CURVES`]) and cycle kind and side, conditions as groups:
 //! `group_figures/<kind>-<side>-<curve>.png`.
 
@@ -369,10 +370,15 @@ pub fn write_figures(
 }
 
 /// Reads the study's cycles for the ok rows and writes `group_cycles.csv`,
-/// `group_cycles.parquet` and (with `figures`) the group figures; returns the files written.
+/// `group_cycles.parquet` and (with `figures`) the group figures; returns the files written
+/// (none when no trial has a stride or a repetition).
 pub fn write_all(out_dir: &Path, rows: &[Row], figures: bool) -> Result<Vec<PathBuf>, String> {
     let trials = read_study(out_dir, rows)?;
     let points = group_curves(&trials);
+    if points.is_empty() {
+        // No trial has a stride or a repetition: nothing to average.
+        return Ok(Vec::new());
+    }
     let csv_path = out_dir.join("group_cycles.csv");
     let parquet_path = out_dir.join("group_cycles.parquet");
     let err = |p: &Path| {

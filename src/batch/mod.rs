@@ -338,15 +338,22 @@ fn run_job(
     dataset::remove_trial(&options.out_dir, &part);
     // A panic in a stage is a bug; it fails this trial only, and the batch goes on.
     let result = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-        let (summary, result) =
-            pipeline::process_file_keep(&job.path, &setup, &dir, &options.output)?;
-        // The dataset files come after summary.json; a resume trusts a trial only with both.
-        dataset::write_trial(&options.out_dir, &part, &result, &summary).map_err(|e| {
-            pipeline::Error::Write {
-                path: "dataset".into(),
-                source: std::io::Error::other(e),
-            }
-        })
+        // The dataset files come before summary.json, which stays the mark of a finished trial.
+        pipeline::process_file_then(
+            &job.path,
+            &setup,
+            &dir,
+            &options.output,
+            |result, summary| {
+                dataset::write_trial(&options.out_dir, &part, result, summary).map_err(|e| {
+                    pipeline::Error::Write {
+                        path: "dataset".into(),
+                        source: std::io::Error::other(e),
+                    }
+                })
+            },
+        )
+        .map(|_| ())
     }));
     match result {
         Ok(Ok(())) => match read_stored(&json) {

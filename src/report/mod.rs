@@ -65,6 +65,21 @@ pub fn write_outputs(
     summary: &Summary,
     plots: &[plots::PlotFormat],
 ) -> Result<(), crate::pipeline::Error> {
+    write_outputs_then(dir, result, summary, plots, |_, _| Ok(()))
+}
+
+/// [`write_outputs`], running `before_summary` (more outputs of the trial, e.g. the batch's
+/// dataset files) after every other file and before `summary.json`, which stays the last.
+pub fn write_outputs_then(
+    dir: &Path,
+    result: &crate::pipeline::TrialResult,
+    summary: &Summary,
+    plots: &[plots::PlotFormat],
+    before_summary: impl FnOnce(
+        &crate::pipeline::TrialResult,
+        &Summary,
+    ) -> Result<(), crate::pipeline::Error>,
+) -> Result<(), crate::pipeline::Error> {
     let err = |path: &Path| {
         let path = path.display().to_string();
         move |source| crate::pipeline::Error::Write { path, source }
@@ -88,6 +103,7 @@ pub fn write_outputs(
     for format in plots {
         plots::write_plots(dir, result, summary, *format)?;
     }
+    before_summary(result, summary)?;
     let json = dir.join("summary.json");
     write_atomic(&json, |w| {
         serde_json::to_writer_pretty(&mut *w, summary).map_err(std::io::Error::other)?;
