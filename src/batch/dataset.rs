@@ -288,10 +288,15 @@ pub fn cycles_frame(cycles: &[Cycle], id: &str, summary: &Summary) -> PolarsResu
     DataFrame::new(n, columns)
 }
 
-/// Writes a data frame as one Parquet file, atomically.
+/// Writes a data frame as one Parquet file, atomically, on the calling thread: a batch worker
+/// that waited on polars' own thread pool would run other trials meanwhile (rayon lets a
+/// blocked worker steal work), nesting one trial in another until the stack overflows.
 pub fn write_frame(path: &Path, df: &mut DataFrame) -> std::io::Result<()> {
     crate::report::write_atomic(path, |w| {
-        ParquetWriter::new(w).finish(df).map_err(polars_io)?;
+        ParquetWriter::new(w)
+            .set_parallel(false)
+            .finish(df)
+            .map_err(polars_io)?;
         Ok(())
     })
 }
