@@ -39,6 +39,8 @@ pub mod checks;
 pub mod com;
 /// Configuration and subject, validated once.
 pub mod config;
+/// Strides and repetitions resampled to 0-100 % (cycles.csv).
+pub mod cycles;
 /// Movement recognition and per-movement figures (walk, jump, squat, stand).
 pub mod movement;
 /// One trial through every stage.

@@ -672,6 +672,18 @@ pub fn process_file(
     dir: &std::path::Path,
     options: &OutputOptions,
 ) -> Result<crate::report::Summary, Error> {
+    process_file_then(path, setup, dir, options, |_, _| Ok(()))
+}
+
+/// [`process_file`], running `before_summary` on the result after the other outputs are written
+/// and before `summary.json` (the batch writes its dataset files there).
+pub fn process_file_then(
+    path: &std::path::Path,
+    setup: &Setup,
+    dir: &std::path::Path,
+    options: &OutputOptions,
+    before_summary: impl FnOnce(&TrialResult, &crate::report::Summary) -> Result<(), Error>,
+) -> Result<crate::report::Summary, Error> {
     let bytes = crate::trial::TrialBytes::open(path).map_err(|source| Error::Read {
         path: path.display().to_string(),
         source,
@@ -732,8 +744,14 @@ pub fn process_file(
     )?;
     let summary =
         crate::report::Summary::new(&result, &setup.subject, Some(input_sha256), setup.hash());
-    let written =
-        crate::report::write_outputs(dir, &result, &summary, &options.plots, !options.no_report);
+    let written = crate::report::write_outputs_then(
+        dir,
+        &result,
+        &summary,
+        &options.plots,
+        !options.no_report,
+        before_summary,
+    );
     written?;
     Ok(summary)
 }

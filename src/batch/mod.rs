@@ -90,10 +90,18 @@
 //!
 //! With `--resume`, a task that was pre-empted and restarted continues where it stopped. The
 //! Parquet summary reads straight into dataframe and SQL engines.
+//!
+//! **Study dataset and group curves.** Every trial's frames and cycles also go into a
+//! hive-partitioned Parquet dataset under `<out>/dataset/` ([`dataset`]), and a whole run (or a
+//! merge, which joins the shards' datasets) writes `group_cycles.csv`/`.parquet` and the group
+//! figures ([`curves`]). `--resume` trusts a trial only when its `summary.json` matches and both
+//! of its dataset files exist. `examples/slurm/array.sh` runs the recipe as a Slurm array job.
 
 #![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
 
 pub mod confine;
+pub mod curves;
+pub mod dataset;
 pub mod html;
 pub mod manifest;
 pub mod progress;
@@ -176,6 +184,9 @@ pub enum BatchError {
     NoJobs,
     #[error("{0}")]
     Merge(String),
+    /// The frame-level dataset or the group curves could not be written or read.
+    #[error("{0}")]
+    Dataset(String),
 }
 
 /// What a batch (or a merge) did.
@@ -279,6 +290,12 @@ pub fn run(
     );
     let rows: Vec<Row> = results.into_iter().map(|r| r.0).collect();
     let mut files = write_summary(&options.out_dir, options.shard, &rows)?;
+    if options.shard.is_none() {
+        let figures = !options.output.plots.is_empty();
+        files.extend(
+            curves::write_all(&options.out_dir, &rows, figures).map_err(BatchError::Dataset)?,
+        );
+    }
     if options.shard.is_none() && !options.output.no_report {
         files.push(write_report(&options.out_dir, &rows)?);
     }
@@ -334,7 +351,12 @@ fn run_job(
     if let Err(e) = crate::textio::require_regular(&job.path) {
         return fail(format!("cannot read {}: {e}", job.path.display()));
     }
-    if options.resume {
+    let part = dataset::TrialKey {
+        id: &job.id,
+        subject: job.subject.as_deref(),
+        condition: job.condition.as_deref(),
+    };
+    if options.resume && dataset::has_trial(&options.out_dir, &part) {
         if let Some(stored) = reusable(&job.path, &setup, &json) {
             if resume::outputs_complete(&dir, &stored, &options.output.plots) {
                 return (Row::ok(&key, &stored), TrialOutcome::Skipped, None);
@@ -342,12 +364,28 @@ fn run_job(
         }
     }
     clear_stale(&dir);
+    dataset::remove_trial(&options.out_dir, &part);
     // A panic in a stage is a bug; it fails this trial only, and the batch goes on.
     let result = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-        pipeline::process_file(&job.path, &setup, &dir, &options.output)
+        // The dataset files come before summary.json, which stays the mark of a finished trial.
+        pipeline::process_file_then(
+            &job.path,
+            &setup,
+            &dir,
+            &options.output,
+            |result, summary| {
+                dataset::write_trial(&options.out_dir, &part, result, summary).map_err(|e| {
+                    pipeline::Error::Write {
+                        path: "dataset".into(),
+                        source: std::io::Error::other(e),
+                    }
+                })
+            },
+        )
+        .map(|_| ())
     }));
     match result {
-        Ok(Ok(_)) => match read_stored(&json) {
+        Ok(Ok(())) => match read_stored(&json) {
             Ok(stored) => (Row::ok(&key, &stored), TrialOutcome::Ran, None),
             Err(message) => fail(message),
         },
@@ -489,9 +527,35 @@ pub fn merge(inputs: &[PathBuf], out_dir: &Path) -> Result<Outcome, BatchError> 
             missing.join(", ")
         )));
     }
+    // Each shard's dataset sits beside its summary; its trials join the dataset in `out_dir`.
+    // Summaries without any dataset beside them (written by hand, or by a version before the
+    // dataset) merge as tables only.
+    let folder = |k: usize| {
+        inputs[k]
+            .parent()
+            .filter(|p| !p.as_os_str().is_empty())
+            .unwrap_or(Path::new("."))
+    };
+    let with_dataset = (0..inputs.len()).any(|k| folder(k).join("dataset").is_dir());
+    for (_, k, row) in rows.iter().filter(|_| with_dataset) {
+        if !row.is_ok() {
+            continue;
+        }
+        let from = folder(*k);
+        let text = |c: &str| row.get(c).and_then(table::Cell::as_str);
+        let part = dataset::TrialKey {
+            id: text("id").unwrap_or_default(),
+            subject: text("subject"),
+            condition: text("condition"),
+        };
+        dataset::import_trial(from, out_dir, &part).map_err(BatchError::Dataset)?;
+    }
     let rows: Vec<Row> = rows.into_iter().map(|r| r.2).collect();
     let failed = rows.iter().filter(|r| !r.is_ok()).count();
     let mut files = write_summary(out_dir, None, &rows)?;
+    if with_dataset {
+        files.extend(curves::write_all(out_dir, &rows, true).map_err(BatchError::Dataset)?);
+    }
     files.push(write_report(out_dir, &rows)?);
     Ok(Outcome {
         ran: 0,

@@ -69,6 +69,22 @@ pub fn write_outputs(
     plots: &[plots::PlotFormat],
     report: bool,
 ) -> Result<(), crate::pipeline::Error> {
+    write_outputs_then(dir, result, summary, plots, report, |_, _| Ok(()))
+}
+
+/// [`write_outputs`], running `before_summary` (more outputs of the trial, e.g. the batch's
+/// dataset files) after every other file and before `summary.json`, which stays the last.
+pub fn write_outputs_then(
+    dir: &Path,
+    result: &crate::pipeline::TrialResult,
+    summary: &Summary,
+    plots: &[plots::PlotFormat],
+    report: bool,
+    before_summary: impl FnOnce(
+        &crate::pipeline::TrialResult,
+        &Summary,
+    ) -> Result<(), crate::pipeline::Error>,
+) -> Result<(), crate::pipeline::Error> {
     let err = |path: &Path| {
         let path = path.display().to_string();
         move |source| crate::pipeline::Error::Write { path, source }
@@ -84,6 +100,11 @@ pub fn write_outputs(
         let reps = dir.join("reps.csv");
         write_atomic(&reps, |w| write_reps(result, w)).map_err(err(&reps))?;
     }
+    let cycles = crate::cycles::of_result(result);
+    if !cycles.is_empty() {
+        let path = dir.join("cycles.csv");
+        write_atomic(&path, |w| crate::cycles::write_cycles(&cycles, w)).map_err(err(&path))?;
+    }
     for format in plots {
         plots::write_plots(dir, result, summary, *format)?;
     }
@@ -98,6 +119,7 @@ pub fn write_outputs(
         // A page of an earlier run would describe other numbers than this run's.
         std::fs::remove_file(&page).map_err(err(&page))?;
     }
+    before_summary(result, summary)?;
     let json = dir.join("summary.json");
     // Numbers with the precision they carry (`fixed::SUMMARY_DIGITS` significant digits).
     let mut value = serde_json::to_value(summary).map_err(|e| crate::pipeline::Error::Write {

@@ -35,6 +35,7 @@
 
 #![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here
 
+mod group;
 mod lift;
 mod path;
 mod series;
@@ -49,6 +50,7 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::OnceLock;
 
+pub use group::{write_group_png, GroupCurve, GroupFigure};
 pub use style::FIGURE_SIZE_PX;
 
 /// Half-width of the mid-foot band when the result has no lift series, metres (common practice,
