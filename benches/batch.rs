@@ -1,4 +1,4 @@
-//! Batch benchmark (DESIGN.md 12): `gravline batch` on synthetic trials (invented data:
+//! Batch benchmark (docs/DESIGN.md 12): `gravline batch` on synthetic trials (invented data:
 //! `gravline::synth::long_trial`, a walk of 30 s at 100 Hz with 45 markers, millimetres).
 //!
 //! Measures, on the release binary, without plots:

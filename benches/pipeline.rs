@@ -1,4 +1,4 @@
-//! Pipeline benchmark (DESIGN.md 12): a long synthetic walk (120 000 frames at 100 Hz, 45
+//! Pipeline benchmark (docs/DESIGN.md 12): a long synthetic walk (120 000 frames at 100 Hz, 45
 //! markers, about 120 MB of wide CSV in millimetres) is timed three ways in the same run, each
 //! several times, and the medians are printed:
 //!

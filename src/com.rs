@@ -1,11 +1,11 @@
 //! Stage 4, center of mass: segment CoMs, the mass-weighted whole-body average, subsystem
 //! (group) CoMs, external loads, and the extrapolated CoM.
 //!
-//! - Segment CoM: `r = origin + f (other - origin)`, f the table's CoM fraction (DESIGN.md 5);
+//! - Segment CoM: `r = origin + f (other - origin)`, f the table's CoM fraction (docs/DESIGN.md 5);
 //!   for a table in segment frames (Dumas, Cheze & Verriest 2007, J Biomech 40:543), the 3-D
 //!   offset in the segment's ISB frame ([`crate::body::frames`]).
 //! - Whole body: `R = sum(m_i r_i) / sum(m_i)` over all segments (and loads for the system CoM),
-//!   dividing by the actual sum of the masses (reference/segment-tables.md 5). A frame where any
+//!   dividing by the actual sum of the masses (docs/reference/segment-tables.md 5). A frame where any
 //!   needed segment or load is missing has no CoM; it is never re-weighted.
 //! - XCoM (Hof, Gazendam & Sinke 2005, J Biomech 38:1-8): `xi = x + v / omega0`,
 //!   `omega0 = sqrt(g / l)`, horizontal components only, l the pendulum (leg) length.
@@ -22,12 +22,12 @@ use nalgebra::Vector3;
 
 pub type P = Vector3<f64>;
 
-/// Standard gravity used throughout, m/s^2 (reference/methods.md: g = 9.81).
+/// Standard gravity used throughout, m/s^2 (docs/reference/methods.md: g = 9.81).
 pub const G_M_S2: f64 = 9.81;
 
 /// CoM of a segment from its endpoints.
 ///
-/// reference/segment-tables.md 5, derived example 1 (Winter thigh, f = 0.433):
+/// docs/reference/segment-tables.md 5, derived example 1 (Winter thigh, f = 0.433):
 /// ```
 /// use gravline::com::{segment_com, P};
 /// let c = segment_com(P::new(0.10, 0.20, 0.95), P::new(0.12, 0.25, 0.52), 0.433);
@@ -55,7 +55,7 @@ pub fn omega0(length_m: f64) -> f64 {
 
 /// Extrapolated CoM in the floor plane: `x + v / omega0` (Hof et al. 2005).
 ///
-/// reference/methods.md 2: l = 0.95 m, v = 1.30 m/s puts the XCoM 0.4045 m ahead of the CoM.
+/// docs/reference/methods.md 2: l = 0.95 m, v = 1.30 m/s puts the XCoM 0.4045 m ahead of the CoM.
 /// ```
 /// use gravline::com::{xcom_horizontal, omega0};
 /// let xi = xcom_horizontal([0.0, 0.0], [1.30, 0.0], omega0(0.95));
@@ -349,7 +349,7 @@ mod tests {
         );
     }
 
-    /// reference/segment-tables.md 5, derived example 1: the thigh CoM by Winter (f = 0.433),
+    /// docs/reference/segment-tables.md 5, derived example 1: the thigh CoM by Winter (f = 0.433),
     /// de Leva male (0.4095) and female (0.3612), to 1e-6 m.
     #[test]
     fn single_thigh_check_values() {
@@ -364,7 +364,7 @@ mod tests {
         }
     }
 
-    /// XCoM equals CoM at rest; reference/methods.md 2 (Hof 2005 formula): l = 0.95 m,
+    /// XCoM equals CoM at rest; docs/reference/methods.md 2 (Hof 2005 formula): l = 0.95 m,
     /// v = 1.30 m/s -> 0.4045 m ahead.
     #[test]
     fn xcom_check_values() {

@@ -1,5 +1,5 @@
 //! Configuration and subject: raw TOML (every key optional, unknown keys rejected) becomes one
-//! validated [`Config`] and [`Subject`] before any work (DESIGN.md 3.2, 3.3). Everything below
+//! validated [`Config`] and [`Subject`] before any work (docs/DESIGN.md 3.2, 3.3). Everything below
 //! takes these types; nothing reads a file or a flag again.
 
 use crate::anthropometry::{SegmentKind, Sex};
@@ -199,7 +199,7 @@ fn q(text: &str) -> String {
     crate::textio::quote(text)
 }
 
-/// Hip joint center method (reference/methods.md 1.2).
+/// Hip joint center method (docs/reference/methods.md 1.2).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum HipMethod {
@@ -234,7 +234,7 @@ impl HipMethod {
 pub enum ArmsMode {
     /// Arms must be marked; frames without them are invalid (default).
     Required,
-    /// Unmarked arms hang below the shoulder JC along the trunk axis (DESIGN.md 5).
+    /// Unmarked arms hang below the shoulder JC along the trunk axis (docs/DESIGN.md 5).
     Hanging,
 }
 
@@ -283,7 +283,7 @@ pub struct Group {
     pub segments: Vec<String>,
 }
 
-/// Contact and margin settings (DESIGN.md 7).
+/// Contact and margin settings (docs/DESIGN.md 7).
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct SupportConfig {
     /// Floor level in metres along the up axis; `None` = auto (2nd percentile of foot markers).
@@ -381,7 +381,7 @@ pub struct Declared {
     pub up_axis: bool,
 }
 
-/// Default low-pass cut-off for markers (reference/methods.md 4: about 6 Hz in walking).
+/// Default low-pass cut-off for markers (docs/reference/methods.md 4: about 6 Hz in walking).
 pub const DEFAULT_CUTOFF_HZ: f64 = 6.0;
 /// Lowest low-pass cut-off accepted. Common practice, no source: marker cut-offs for human
 /// movement are a few hertz (Winter's residual analysis gives about 6 Hz in walking), and the
@@ -390,7 +390,7 @@ pub const DEFAULT_CUTOFF_HZ: f64 = 6.0;
 /// filter's end padding (three periods of the cut-off) within a few seconds: at 0.001 Hz the
 /// filtered CoM of a 6 s walk lands metres outside the walkway.
 pub const MIN_CUTOFF_HZ: f64 = 0.5;
-/// Default longest gap the spline bridges (reference/methods.md 4: about 0.1 s).
+/// Default longest gap the spline bridges (docs/reference/methods.md 4: about 0.1 s).
 pub const DEFAULT_MAX_GAP_S: f64 = 0.10;
 
 impl Default for Config {
@@ -693,7 +693,7 @@ fn is_identifier(s: &str) -> bool {
     !s.is_empty() && s.chars().all(|c| c.is_ascii_alphanumeric() || c == '_')
 }
 
-/// The subject: body mass, stature, sex, and optional lab measurements (DESIGN.md 3.2).
+/// The subject: body mass, stature, sex, and optional lab measurements (docs/DESIGN.md 3.2).
 #[derive(Clone, Debug, Deserialize, Serialize, PartialEq)]
 #[serde(deny_unknown_fields)]
 pub struct Subject {

@@ -1,7 +1,7 @@
 //! gravline: the whole-body center of mass (CoM) from 3D marker trajectories, its velocity, and
 //! its margin to the base of support (BoS).
 //!
-//! The pipeline (DESIGN.md 2), one module per stage, dependencies running one way:
+//! The pipeline (docs/DESIGN.md 2), one module per stage, dependencies running one way:
 //!
 //! ```text
 //! trial CSV --trial--> Trial (RawMarkers: gappy, metres, up axis known)

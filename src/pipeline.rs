@@ -1,8 +1,8 @@
 //! One way through the house: [`run_trial`] takes a read [`Trial`] through every stage
-//! (DESIGN.md 2) and returns a [`TrialResult`]. The CLI (`trial`, `demo`) and `batch` call this
+//! (docs/DESIGN.md 2) and returns a [`TrialResult`]. The CLI (`trial`, `demo`) and `batch` call this
 //! and nothing else of the stages, so batch results cannot drift from single-trial results.
 //!
-//! Order (reference/methods.md 4, "order of operations"): fill gaps, filter markers, then joint
+//! Order (docs/reference/methods.md 4, "order of operations"): fill gaps, filter markers, then joint
 //! centers, segments and CoM, then derivatives, XCoM, and the base of support.
 
 #![allow(clippy::result_large_err)] // `ComError` and `LandmarkError` (~150 bytes) pass through here

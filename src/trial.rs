@@ -1,4 +1,4 @@
-//! Stage 1, reading: a trial CSV (wide or tidy layout, DESIGN.md 3.1) becomes a [`Trial`]:
+//! Stage 1, reading: a trial CSV (wide or tidy layout, docs/DESIGN.md 3.1) becomes a [`Trial`]:
 //! frame times in seconds and gappy marker tracks ([`RawMarkers`]) in metres, in the lab frame of
 //! the file, with its vertical axis known ([`UpAxis`]).
 //!
@@ -27,7 +27,7 @@
 //! # Rate
 //! Times must increase strictly from row to row (wide layout; tidy frames are put in time
 //! order). The frame interval is checked against the median interval:
-//! more than 1 % off is an error naming the first offending line (DESIGN.md 3.1). When the
+//! more than 1 % off is an error naming the first offending line (docs/DESIGN.md 3.1). When the
 //! times are written rounded to a coarser step than the recording's clock (for example 150 Hz
 //! stamped to the millisecond: intervals alternate 6 ms and 7 ms), each interval may also
 //! differ by that rounding step, found as the coarsest power-of-ten grid that every time lies
@@ -242,7 +242,7 @@ impl Trial {
 /// Longest comment or header line accepted, in bytes (a guard against files that are not CSV).
 pub const MAX_HEADER_LINE_BYTES: u64 = 16 << 20;
 
-/// Largest relative difference between a frame interval and the median interval (DESIGN.md 3.1).
+/// Largest relative difference between a frame interval and the median interval (docs/DESIGN.md 3.1).
 pub const RATE_TOLERANCE: f64 = 0.01;
 
 /// A tidy file may describe at most this many (frame, marker) cells per row read, plus

@@ -120,7 +120,7 @@ fn forty_trials_three_failed_rows_and_the_outputs_of_the_rest() {
         assert_eq!(r["input_sha256"].len(), 64);
         assert_eq!(r["config_sha256"].len(), 64);
         assert_eq!(r["frames"], "120");
-        // A standing CoM sits at about 0.55 of stature (reference/methods.md 6; invented body,
+        // A standing CoM sits at about 0.55 of stature (docs/reference/methods.md 6; invented body,
         // so only a wide band).
         let share: f64 = r["com_mean_height_of_stature"].parse().unwrap();
         assert!((0.45..0.65).contains(&share), "{share}");

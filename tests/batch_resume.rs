@@ -79,6 +79,15 @@ fn assert_complete(out: &Path) {
                     .finish()
                     .unwrap_or_else(|e| panic!("{}: {e}", p.display()));
             }
+            "html" => {
+                // A page is whole: it ends with its closing tag.
+                let text = std::fs::read_to_string(&p).unwrap();
+                assert!(
+                    text.trim_end().ends_with("</html>"),
+                    "{} is cut short",
+                    p.display()
+                );
+            }
             other => panic!("unexpected file {} ({other})", p.display()),
         }
     }

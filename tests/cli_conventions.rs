@@ -281,8 +281,11 @@ fn every_readme_command_line_runs() {
         } else if let Some(rest) = command.strip_prefix("gravline") {
             rest.split_whitespace().collect()
         } else {
+            // `sbatch` is the scheduler's; the recipe it submits runs in tests/slurm_cluster.rs.
             assert!(
-                command.starts_with("cargo test") || command.starts_with("cargo bench"),
+                command.starts_with("cargo test")
+                    || command.starts_with("cargo bench")
+                    || command.starts_with("sbatch"),
                 "README line neither gravline nor cargo's: {line}"
             );
             continue;

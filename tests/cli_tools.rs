@@ -10,7 +10,7 @@ mod common;
 use common::realdata_dir;
 
 /// Residual analysis of the real walk (150 Hz, mm): marker cut-offs of walking lie around
-/// 6 Hz (reference/methods.md 4: "markers about 6 Hz in walking"); the band checked is 3-12 Hz,
+/// 6 Hz (docs/reference/methods.md 4: "markers about 6 Hz in walking"); the band checked is 3-12 Hz,
 /// and the curves file has one column per marker coordinate.
 #[test]
 fn cutoff_on_the_real_walk_suggests_a_walking_cutoff() {

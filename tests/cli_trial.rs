@@ -214,7 +214,7 @@ fn a_missing_landmark_names_the_label_and_the_closest_ones() {
 }
 
 /// The second built-in table runs on the same marker set; a standing CoM lies at 0.53-0.59 of
-/// stature (reference/methods.md 6: 0.5527, Whiplash Injuries chapter; textbooks 55-57 %).
+/// stature (docs/reference/methods.md 6: 0.5527, Whiplash Injuries chapter; textbooks 55-57 %).
 #[test]
 fn dempster_winter_table_runs_end_to_end() {
     let dir = tempfile::tempdir().unwrap();

@@ -1,5 +1,5 @@
 //! Whole-body CoM through the real pipeline, checked against outside values: the derived
-//! standing example of reference/segment-tables.md 5 (de Leva 1996 male main definitions) and the
+//! standing example of docs/reference/segment-tables.md 5 (de Leva 1996 male main definitions) and the
 //! physics the segmental method rests on.
 
 use approx::assert_abs_diff_eq;
@@ -29,7 +29,7 @@ fn run(trial: &Trial, config: &Config, subject: &Subject) -> TrialResult {
     .unwrap()
 }
 
-/// reference/segment-tables.md 5, derived example 3: landmark coordinates (x forward, y left,
+/// docs/reference/segment-tables.md 5, derived example 3: landmark coordinates (x forward, y left,
 /// z up, metres) with the joint centers given, so the table alone decides the CoM.
 fn de_leva_standing_points() -> Vec<(&'static str, [f64; 3])> {
     let mut p = vec![
@@ -56,7 +56,7 @@ fn de_leva_standing_points() -> Vec<(&'static str, [f64; 3])> {
 const DE_LEVA_HEAD_MAIN: &str =
     "[model]\nendpoints = { head = \"head_top-mid_gonion\" }\n[filter]\ncutoff_hz = \"none\"\n";
 
-/// Whole-body CoM (0.001752, 0, 0.993432) m = 0.5706 of stature (segment-tables.md 5, derived
+/// Whole-body CoM (0.001752, 0, 0.993432) m = 0.5706 of stature (docs/reference/segment-tables.md 5, derived
 /// from de Leva 1996 Table 4), to 1e-5 m.
 #[test]
 fn de_leva_standing_example() {

@@ -85,7 +85,14 @@ fn hostile_trial_names_stay_in_their_own_folders() {
     top.sort();
     assert_eq!(
         top,
-        ["groups.csv", "summary.csv", "summary.parquet", "trials"]
+        [
+            "dataset",
+            "groups.csv",
+            "report.html",
+            "summary.csv",
+            "summary.parquet",
+            "trials"
+        ]
     );
     let mut ids: Vec<String> = std::fs::read_dir(out.join("trials"))
         .unwrap()
@@ -150,6 +157,7 @@ fn a_trial_named_dot_dot_on_the_command_line_gets_its_own_folder() {
         [
             PathBuf::from("_"),
             PathBuf::from("_/frames.csv"),
+            PathBuf::from("_/report.html"),
             PathBuf::from("_/summary.json")
         ]
     );

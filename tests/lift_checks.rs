@@ -1,4 +1,4 @@
-//! Lifter plus barbell through the real pipeline: reference/methods.md 6 check values and the
+//! Lifter plus barbell through the real pipeline: docs/reference/methods.md 6 check values and the
 //! physics of the combined CoM.
 
 use approx::assert_abs_diff_eq;
@@ -44,7 +44,7 @@ fn body_offset(foot_shift_m: f64) -> f64 {
     r.lift.unwrap().com_midfoot_ap_m[0].unwrap()
 }
 
-/// reference/methods.md 6 (derived from x_sys = (m_body x_body + m_bar x_bar) / (m_body + m_bar)):
+/// docs/reference/methods.md 6 (derived from x_sys = (m_body x_body + m_bar x_bar) / (m_body + m_bar)):
 /// an 80 kg lifter whose body CoM is 5 cm behind mid-foot needs the bar 6.67, 4.00, 2.86 and
 /// 2.00 cm ahead of mid-foot for 60, 100, 140 and 200 kg bars; found here through the pipeline
 /// (body model, mid-foot from the foot markers, system CoM) to 1e-4 m.

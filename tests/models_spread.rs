@@ -2,7 +2,7 @@
 //! place; a missing directory fails these tests) and on synthetic bodies with known answers.
 //!
 //! - standing-static: dos Santos, Fukuchi, Fukuchi & Duarte 2017, PeerJ 5:e3626, subject 13,
-//!   CC BY 4.0 (no arm markers: arms hang, DESIGN.md 5);
+//!   CC BY 4.0 (no arm markers: arms hang, docs/DESIGN.md 5);
 //! - walk-lower-body: Duarte 2021, doi 10.5281/zenodo.4599319, trial "walk2", CC BY 4.0 (pelvis
 //!   and legs only: the spread is that of the legs' CoM).
 

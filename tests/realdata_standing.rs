@@ -27,7 +27,7 @@ fn standing_com_height_and_projection_are_those_of_a_person() {
     )
     .unwrap();
     assert_eq!(summary.valid_fraction, 1.0);
-    // CoM height in quiet standing: 0.5527 of stature (reference/methods.md 6, a published
+    // CoM height in quiet standing: 0.5527 of stature (docs/reference/methods.md 6, a published
     // chapter in Whiplash Injuries, 2nd ed., Springer 2014); textbooks give 55-57 %. The check
     // band is 0.53-0.59.
     let share = summary.com.mean_height_of_stature.unwrap();

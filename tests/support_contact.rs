@@ -88,7 +88,7 @@ fn missing_frames_are_not_in_contact_and_runs_at_the_ends_are_kept() {
 
 #[test]
 fn default_thresholds_are_the_documented_ones() {
-    // Ghoussayni et al. 2004 via Bonci et al. 2022 (methods.md 3): 0.5 m/s; the others are
+    // Ghoussayni et al. 2004 via Bonci et al. 2022 (docs/reference/methods.md 3): 0.5 m/s; the others are
     // gravline's documented common-practice values.
     let t = ContactThresholds::default();
     assert_eq!(

@@ -124,7 +124,7 @@ fn peaks_closer_than_the_minimum_distance_keep_the_higher() {
 
 #[test]
 fn defaults_are_the_public_code_knobs_of_methods_md_3() {
-    // methods.md 3 (S): minimum peak distance fs/4 samples (0.25 s), minimum height 10 % of range
+    // docs/reference/methods.md 3 (S): minimum peak distance fs/4 samples (0.25 s), minimum height 10 % of range
     let o = ZeniOptions::default();
     assert_eq!((o.min_peak_distance_s, o.min_relative_height), (0.25, 0.10));
 }

@@ -1,5 +1,5 @@
 //! Margins of the `support` stage: signed distance and directional margins on a unit square
-//! (geometry), and the worked check values of methods.md 2 (Hof, Gazendam & Sinke 2005,
+//! (geometry), and the worked check values of docs/reference/methods.md 2 (Hof, Gazendam & Sinke 2005,
 //! J Biomech 38:1-8) reproduced through the public functions.
 
 use approx::assert_abs_diff_eq;
@@ -7,7 +7,7 @@ use gravline::support::{
     convex_hull, directional_margin, signed_distance, time_to_boundary_s, Hull,
 };
 
-/// Standard gravity as used by methods.md ("g = 9.81 m/s²").
+/// Standard gravity as used by docs/reference/methods.md ("g = 9.81 m/s²").
 const G_M_S2: f64 = 9.81;
 
 fn unit_square() -> Hull {
@@ -134,7 +134,7 @@ fn directional_margins_of_point_and_segment_hulls() {
 
 #[test]
 fn omega0_and_xcom_offset_match_methods_md_2_check_values() {
-    // methods.md 2, check values (D): l = 0.95 m -> omega0 = 3.2135 1/s, 1/omega0 = 0.3112 s;
+    // docs/reference/methods.md 2, check values (D): l = 0.95 m -> omega0 = 3.2135 1/s, 1/omega0 = 0.3112 s;
     // v = 1.30 m/s -> v/omega0 = 0.4045 m. Stated to 4 decimals, hence 5e-5.
     let omega0 = (G_M_S2 / 0.95_f64).sqrt();
     assert_abs_diff_eq!(omega0, 3.2135, epsilon = 5e-5);
@@ -144,7 +144,7 @@ fn omega0_and_xcom_offset_match_methods_md_2_check_values() {
 
 #[test]
 fn backward_mos_at_initial_contact_is_plus_75_mm() {
-    // methods.md 2, check value (D): CoM 0.33 m behind the leading heel, v = 1.30 m/s,
+    // docs/reference/methods.md 2, check value (D): CoM 0.33 m behind the leading heel, v = 1.30 m/s,
     // l = 0.95 m -> the XCoM is 0.075 m ahead of the heel: backward MoS = +0.075 m (Hak et al.
     // 2013 definition: XCoM minus the posterior edge of the leading foot, along e_prog).
     // The leading foot: heel edge at x = 0.33 m, 0.25 m long, 0.10 m wide (a foot outline).
@@ -155,7 +155,7 @@ fn backward_mos_at_initial_contact_is_plus_75_mm() {
     let leading_foot = convex_hull(&[[0.33, -0.05], [0.58, -0.05], [0.58, 0.05], [0.33, 0.05]]);
     let e_prog = [1.0, 0.0];
     let m = directional_margin(&leading_foot, xcom, e_prog).unwrap();
-    // 0.075 as stated to 3 decimals in methods.md, hence 5e-4
+    // 0.075 as stated to 3 decimals in docs/reference/methods.md, hence 5e-4
     assert_abs_diff_eq!(m.behind_m, 0.075, epsilon = 5e-4);
     // the anterior MoS of the same foot: toe edge 0.58 m minus the XCoM (geometry, D)
     assert_abs_diff_eq!(m.ahead_m, 0.58 - 1.30 / omega0, epsilon = 1e-12);
@@ -166,12 +166,12 @@ fn backward_mos_at_initial_contact_is_plus_75_mm() {
 
 #[test]
 fn temporal_margin_matches_methods_md_2_check_value() {
-    // methods.md 2, check value (D): l = 0.95 m, p = 0, xi0 = 0.05 m, u = 0.10 m -> tau = 0.216 s
+    // docs/reference/methods.md 2, check value (D): l = 0.95 m, p = 0, xi0 = 0.05 m, u = 0.10 m -> tau = 0.216 s
     // (stated to 3 decimals, hence 5e-4)
     let omega0 = (G_M_S2 / 0.95_f64).sqrt();
     let tau = time_to_boundary_s(0.05, 0.0, 0.10, omega0).unwrap();
     assert_abs_diff_eq!(tau, 0.216, epsilon = 5e-4);
-    // the same model forward (inverted pendulum, methods.md 2): xi(tau) - p = (xi0 - p) e^(omega0 tau)
+    // the same model forward (inverted pendulum, docs/reference/methods.md 2): xi(tau) - p = (xi0 - p) e^(omega0 tau)
     // reaches the edge; here with the CoP off the origin and the edge on the negative side
     let (xi0, p, u) = (-0.12, -0.02, -0.30);
     let tau = time_to_boundary_s(xi0, p, u, omega0).unwrap();

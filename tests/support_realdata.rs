@@ -83,7 +83,7 @@ impl Table {
 const SIDES: [&str; 2] = ["l", "r"];
 /// Foot points that touch the floor: heel and metatarsal heads (no toe marker in this trial).
 const CONTACT_MARKERS: [&str; 4] = ["heel", "mt1", "mt2", "mt5"];
-/// BoS points of a foot in contact (DESIGN.md 7: lateral malleolus as the lateral proxy).
+/// BoS points of a foot in contact (docs/DESIGN.md 7: lateral malleolus as the lateral proxy).
 const BOS_MARKERS: [&str; 5] = ["heel", "mt1", "mt2", "mt5", "ankle_lat"];
 /// All foot markers, for the floor level.
 const FOOT_MARKERS: [&str; 6] = ["heel", "mt1", "mt2", "mt5", "ankle_lat", "ankle_med"];
@@ -151,7 +151,7 @@ fn contact_events_and_cop_agree_with_the_force_plates() {
     let track = |side: &str, m: &str| trial.marker_m(&format!("{side}_{m}"));
     let height = |p: &Option<[f64; 3]>| p.map(|p| up.height(&p));
 
-    // Floor: the 2nd percentile of all foot-marker heights (DESIGN.md 7).
+    // Floor: the 2nd percentile of all foot-marker heights (docs/DESIGN.md 7).
     let all_heights: Vec<f64> = SIDES
         .iter()
         .flat_map(|s| FOOT_MARKERS.iter().map(move |m| (s, m)))
@@ -343,7 +343,7 @@ fn contact_events_and_cop_agree_with_the_force_plates() {
         };
         let zeni = zeni_events(&relative("heel"), &relative("mt2"), rate_hz);
         // Bonci et al. 2022 refinement: heel speed below 0.5 x and 2nd-metatarsal speed above
-        // 0.8 x the walking speed (methods.md 3).
+        // 0.8 x the walking speed (docs/reference/methods.md 3).
         let refined = refine_events(
             &zeni,
             &speeds_m_s(&track(side, "heel"), rate_hz),
@@ -421,7 +421,7 @@ fn contact_events_and_cop_agree_with_the_force_plates() {
                 "refined toe-off on filtered tracks {d_filtered:+} frames from plate {} off",
                 f.plate
             );
-            // Zeni 2008: 98 % of overground events within 2 frames at 60 Hz (33 ms, methods.md 3, P)
+            // Zeni 2008: 98 % of overground events within 2 frames at 60 Hz (33 ms, docs/reference/methods.md 3, P)
             // = 5 frames at 150 Hz; the refined toe-off within 3 frames, like the contact offs.
             assert!(
                 d.abs() <= 5,

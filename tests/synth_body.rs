@@ -126,7 +126,7 @@ fn standing_heights_follow_the_stature_proportions() {
     assert_abs_diff_eq!(point(&t, "head_top")[0][2], h, epsilon = 0.0005);
 }
 
-/// Harrington et al. 2007 full regression (`reference/methods.md` 1.2), written here from the
+/// Harrington et al. 2007 full regression (`docs/reference/methods.md` 1.2), written here from the
 /// published equations: right hip in the pelvis frame (origin mid-ASIS; x anterior, y superior,
 /// z lateral), millimetres.
 fn harrington_mm(pw: f64, pd: f64, ll: f64) -> P {
@@ -165,7 +165,7 @@ fn harrington_hips(l_asis: P, r_asis: P, l_psis: P, r_psis: P, ll_m: f64) -> (P,
 /// The regression applied to the model's pelvis markers, with the model's leg length, returns
 /// its hip joint centers (1e-9 m) in every frame of a walk and a squat (pelvis level and tilted
 /// forward). The regression itself is first checked against the values derived in
-/// `reference/methods.md` 1.2 (PW 250, PD 160, LL 900 mm: -48.3, -83.1, 92.7 mm).
+/// `docs/reference/methods.md` 1.2 (PW 250, PD 160, LL 900 mm: -48.3, -83.1, 92.7 mm).
 #[test]
 fn harrington_recovers_the_hip_joint_centers() {
     let [x, y, z] = harrington_mm(250.0, 160.0, 900.0);
@@ -191,7 +191,7 @@ fn harrington_recovers_the_hip_joint_centers() {
 }
 
 /// Knee, ankle, elbow and wrist centers are the midpoints of their two markers, which sit half
-/// the joint width plus the marker radius from the center (DESIGN.md 5); knee width 0.057 H,
+/// the joint width plus the marker radius from the center (docs/DESIGN.md 5); knee width 0.057 H,
 /// ankle 0.040 H, elbow 0.040 H, wrist 0.033 H are the model's own values.
 #[test]
 fn joint_centers_are_midway_between_their_markers() {
@@ -246,7 +246,7 @@ fn shoulder_centers_lie_below_the_acromions() {
 }
 
 /// Standing CoM height is 0.5527 of stature (Whiplash Injuries chapter; textbooks 55-57 %,
-/// `reference/methods.md` 6): the true CoM lies between 0.53 and 0.59 H for women and men of
+/// `docs/reference/methods.md` 6): the true CoM lies between 0.53 and 0.59 H for women and men of
 /// several statures.
 #[test]
 fn standing_com_is_at_a_human_height() {

@@ -46,7 +46,7 @@ fn demo_files_are_small() {
 }
 
 /// The manifest lists the four trials with their subjects' figures, and each subject file
-/// parses as TOML with the fields of DESIGN.md 3.2.
+/// parses as TOML with the fields of docs/DESIGN.md 3.2.
 #[test]
 fn manifest_and_subjects_agree() {
     let files = demo_files();

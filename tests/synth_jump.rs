@@ -49,7 +49,7 @@ fn knee_flexion_deg(t: &SynthTrial, side: &str, i: usize) -> f64 {
     180.0 - (dot / n).acos().to_degrees()
 }
 
-/// A body in flight accelerates at -g (g = 9.81 m/s^2, `reference/methods.md`): the second
+/// A body in flight accelerates at -g (g = 9.81 m/s^2, `docs/reference/methods.md`): the second
 /// differences of the true CoM from take-off to landing are -9.81 m/s^2 vertically and 0
 /// horizontally (1e-6), while the knees flex and extend by more than 20 deg.
 #[test]

@@ -1,4 +1,4 @@
-//! The synthetic back squat against coaching practice (`reference/methods.md` 6: the bar path
+//! The synthetic back squat against coaching practice (`docs/reference/methods.md` 6: the bar path
 //! stays over the mid-foot) and its own ground truth (repetitions, bottoms, bar mass).
 
 use approx::assert_abs_diff_eq;

@@ -1,4 +1,4 @@
-//! The synthetic quiet stance against facts of standing (`reference/methods.md` 6): the CoM
+//! The synthetic quiet stance against facts of standing (`docs/reference/methods.md` 6): the CoM
 //! projects a few centimetres in front of the ankles, inside the feet, and sways by millimetres.
 
 use gravline::synth::{generate, Scenario, SynthOptions, SynthTrial};
@@ -42,7 +42,7 @@ fn com_sways_by_millimetres_with_still_feet() {
 }
 
 /// The CoM's floor projection lies a few centimetres in front of the ankle joints (Woodhull et
-/// al. 1985 via `reference/methods.md` 6: hip 6.2 cm and knee 3.8 cm in front of the ankle; the
+/// al. 1985 via `docs/reference/methods.md` 6: hip 6.2 cm and knee 3.8 cm in front of the ankle; the
 /// CoM a few cm in front, inside the base of support): between 1 and 10 cm in front of the lateral
 /// malleoli and behind the metatarsal heads.
 #[test]

@@ -40,7 +40,7 @@ fn inner_contacts(t: &SynthTrial, side: usize) -> Vec<(f64, f64)> {
 
 /// A planted foot does not move: at mid-stance the heel and toe markers of the stance foot are
 /// slower than 0.05 m/s (the speed thresholds of kinematic contact detection are 0.5 m/s and
-/// more: Ghoussayni 2004 via `reference/methods.md` 3, so 0.05 m/s is "still").
+/// more: Ghoussayni 2004 via `docs/reference/methods.md` 3, so 0.05 m/s is "still").
 #[test]
 fn stance_foot_is_still_at_mid_stance() {
     let t = clean(1.30);
@@ -63,7 +63,7 @@ fn stance_foot_is_still_at_mid_stance() {
     assert!(checked >= 8, "only {checked} whole contacts");
 }
 
-/// Over whole strides the pelvis moves forward at the walking speed (`reference/methods.md` 6:
+/// Over whole strides the pelvis moves forward at the walking speed (`docs/reference/methods.md` 6:
 /// mean forward CoM velocity equals walking speed); checked within 1 % on the mean of the four
 /// pelvis markers, with the default noise and gaps, at two speeds.
 #[test]
@@ -163,7 +163,7 @@ fn a_foot_in_contact_touches_the_floor() {
 }
 
 /// The pelvis oscillates by a few centimetres: vertically twice and laterally once per stride
-/// (`reference/methods.md` 6: vertical 3-5 cm and ML 3-6 cm CoM excursion at 1.2-1.4 m/s, from
+/// (`docs/reference/methods.md` 6: vertical 3-5 cm and ML 3-6 cm CoM excursion at 1.2-1.4 m/s, from
 /// memory there; checked on the true CoM with wider bands of 2-6 cm).
 #[test]
 fn com_oscillates_by_a_few_centimetres() {

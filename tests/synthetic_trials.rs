@@ -96,7 +96,7 @@ fn the_walk_speed_is_the_walkers() {
 /// (its plates load while the heel still moves at 0.2-0.6 m/s) and the refined events fall within
 /// 3 frames of its plates there. Bounds: the refined heel strike at most 4 frames early and
 /// never later than the truth, closer than pure Zeni at every event; toe-offs at most 6 frames
-/// late and never early (Zeni 2008: 98 % of overground events within 33 ms, methods.md 3, P).
+/// late and never early (Zeni 2008: 98 % of overground events within 33 ms, docs/reference/methods.md 3, P).
 #[test]
 fn gait_events_match_the_walkers_contacts() {
     let (s, o, refined) = run(Scenario::Walk, "");
@@ -163,7 +163,7 @@ fn gait_events_match_the_walkers_contacts() {
         assert!((0.05..0.20).contains(&step.step_width_m.unwrap()));
     }
     // ML MoS at heel strike: positive, a few centimetres (common practice, no source; the band of
-    // reference/methods.md 2 for a marker-based lateral border is roughly 5-8 cm).
+    // docs/reference/methods.md 2 for a marker-based lateral border is roughly 5-8 cm).
     let ml: Vec<f64> = r
         .support
         .steps

@@ -3,7 +3,7 @@
 //!
 //! Check values come from the fixture texts themselves (a coordinate in millimetres is the same
 //! number times 1e-3 in metres: SI definition of the millimetre), from the real recordings' own
-//! first rows and header comments, and from the design rules (DESIGN.md 3.1).
+//! first rows and header comments, and from the design rules (docs/DESIGN.md 3.1).
 
 use std::path::{Path, PathBuf};
 

@@ -1,4 +1,4 @@
-//! Anthropometric tables: segment mass fractions and CoM locations (DESIGN.md 5).
+//! Anthropometric tables: segment mass fractions and CoM locations (docs/DESIGN.md 5).
 //!
 //! Input: a table name (`de-leva-1996`, `dempster-winter`, `dumas-2007`) and the subject's sex, or the path of
 //! a user table in the same CSV format. Output: a validated [`SegmentTable`], one row per segment
@@ -251,7 +251,7 @@ const DEMPSTER_WINTER: &str = include_str!("../../anthropometry/dempster-winter.
 const DUMAS_MALE: &str = include_str!("../../anthropometry/dumas-2007-male.csv");
 const DUMAS_FEMALE: &str = include_str!("../../anthropometry/dumas-2007-female.csv");
 
-/// Whole-body mass fractions may differ from 1 by this much before a warning (DESIGN.md 5).
+/// Whole-body mass fractions may differ from 1 by this much before a warning (docs/DESIGN.md 5).
 pub const MASS_SUM_TOLERANCE: f64 = 0.005;
 
 impl SegmentTable {
@@ -658,7 +658,7 @@ mod tests {
             .unwrap_or_else(|| panic!("row {s} {key} missing"))
     }
 
-    /// Mass-fraction sums of reference/segment-tables.md 5 (derived from the published tables):
+    /// Mass-fraction sums of docs/reference/segment-tables.md 5 (derived from the published tables):
     /// de Leva male 100.00 %, female 99.99 %, Winter 1.000.
     #[test]
     fn mass_sums_match_the_published_tables() {
@@ -671,7 +671,7 @@ mod tests {
         assert!(m.warnings.is_empty() && f.warnings.is_empty() && w.warnings.is_empty());
     }
 
-    /// de Leva 1996 Table 4 (reference/segment-tables.md 2a, 2b): main and alternative rows.
+    /// de Leva 1996 Table 4 (docs/reference/segment-tables.md 2a, 2b): main and alternative rows.
     #[test]
     fn de_leva_rows_equal_table_4() {
         let m = SegmentTable::builtin("de-leva-1996", Sex::Male).unwrap();
@@ -710,7 +710,7 @@ mod tests {
         assert_eq!(m.rows.len(), expected.len());
     }
 
-    /// The defaults DESIGN.md 5 fixes for comparability across labs.
+    /// The defaults docs/DESIGN.md 5 fixes for comparability across labs.
     #[test]
     fn de_leva_defaults_are_the_design_rows() {
         let m = SegmentTable::builtin("de-leva-1996", Sex::Male).unwrap();
@@ -733,7 +733,7 @@ mod tests {
         );
     }
 
-    /// Winter Table 4.1 (reference/segment-tables.md 1) and its additive identities (section 5).
+    /// Winter Table 4.1 (docs/reference/segment-tables.md 1) and its additive identities (section 5).
     #[test]
     fn dempster_winter_rows_equal_table_4_1() {
         let w = SegmentTable::builtin("dempster-winter", Sex::Female).unwrap();
@@ -758,13 +758,13 @@ mod tests {
             epsilon = 1e-12
         );
         let m = |s| w.default_row(s).unwrap().mass_fraction;
-        // total arm 0.050, total leg 0.161, HAT 0.678 (segment-tables.md 5).
+        // total arm 0.050, total leg 0.161, HAT 0.678 (docs/reference/segment-tables.md 5).
         assert_abs_diff_eq!(m(UpperArm) + m(Forearm) + m(Hand), 0.050, epsilon = 1e-12);
         assert_abs_diff_eq!(m(Thigh) + m(Shank) + m(Foot), 0.161, epsilon = 1e-12);
         assert_abs_diff_eq!(m(Trunk) + m(Head) + 2.0 * 0.050, 0.678, epsilon = 1e-12);
     }
 
-    /// de Leva's trunk mass equals the sum of its three parts (segment-tables.md 5).
+    /// de Leva's trunk mass equals the sum of its three parts (docs/reference/segment-tables.md 5).
     #[test]
     fn de_leva_trunk_parts_sum_to_the_trunk() {
         for sex in [Sex::Male, Sex::Female] {

@@ -1,11 +1,11 @@
-//! Batch planning: a manifest CSV (DESIGN.md 10) or a directory of trial files becomes a
+//! Batch planning: a manifest CSV (docs/DESIGN.md 10) or a directory of trial files becomes a
 //! [`Plan`]: one [`Job`] per trial, in manifest order, each with its row number, its output id,
 //! its file and either a validated [`Subject`] and [`Config`] or the one-line reason it cannot
 //! run.
 //!
 //! Manifest columns: `trial` (path relative to the manifest), `subject`, `mass_kg`, `height_m`,
 //! `sex`; optional `condition`, `config` (path relative to the manifest, replacing the batch
-//! configuration for that row) and the optional subject fields of DESIGN.md 3.2
+//! configuration for that row) and the optional subject fields of docs/DESIGN.md 3.2
 //! ([`SUBJECT_FIELDS`]). Other columns are ignored and listed once in [`Plan::warnings`]. Lines
 //! starting with `#` are comments.
 //!

@@ -1,4 +1,4 @@
-//! Stage 7, batch (DESIGN.md 8, 10, 13): many trials through [`pipeline::process_file`] in
+//! Stage 7, batch (docs/DESIGN.md 8, 10, 13): many trials through [`pipeline::process_file`] in
 //! parallel, one summary table over them, shards for clusters, and resuming an interrupted run.
 //! Inputs: a manifest CSV or a folder of trial CSVs ([`manifest`]); outputs: each trial's folder,
 //! `summary.csv`, `summary.parquet` and `groups.csv` ([`table`]). Units as in the trial outputs

@@ -1,4 +1,4 @@
-//! Joint-center methods (reference/methods.md 1). Inputs and outputs in metres, lab frame.
+//! Joint-center methods (docs/reference/methods.md 1). Inputs and outputs in metres, lab frame.
 //!
 //! - Hip: regressions in the ISB pelvis frame (Wu et al. 2002, J Biomech 35:543): origin at
 //!   mid-ASIS, z = unit(RASIS - LASIS) (right), x anterior in the plane of the ASIS and mid-PSIS,
@@ -67,7 +67,7 @@ impl PelvisFrame {
 /// Right-hip JC in pelvis coordinates (x anterior, y up, z lateral +), in millimetres, from
 /// PW, PD and LL in millimetres. The left hip mirrors z.
 ///
-/// Check values of reference/methods.md 1.2 (PW 250, PD 160, LL 900): Harrington full
+/// Check values of docs/reference/methods.md 1.2 (PW 250, PD 160, LL 900): Harrington full
 /// (-48.3, -83.1, +92.7).
 /// ```
 /// use gravline::body::joints::hip_regression_mm;
@@ -141,7 +141,7 @@ mod tests {
     use super::*;
     use approx::assert_abs_diff_eq;
 
-    /// reference/methods.md 1.2 check values (derived from the published equations; PW 250,
+    /// docs/reference/methods.md 1.2 check values (derived from the published equations; PW 250,
     /// PD 160, LL 900 mm, right hip) to 0.1 mm.
     #[test]
     fn hip_regressions_equal_the_check_values() {
@@ -163,7 +163,7 @@ mod tests {
     }
 
     /// The same check through the pelvis frame, with the pelvis rotated in the lab: the two hip
-    /// JCs are 185.4 mm apart (methods.md 1.2, Harrington full).
+    /// JCs are 185.4 mm apart (docs/reference/methods.md 1.2, Harrington full).
     #[test]
     fn hip_jc_in_a_rotated_pelvis() {
         // Pelvis facing +y in the lab, up +z: x_pelvis = +y_lab, z_pelvis (right) = +x_lab.

@@ -1,4 +1,4 @@
-//! Stage 3, the body model (DESIGN.md 4, 5): trial labels become landmarks of our vocabulary,
+//! Stage 3, the body model (docs/DESIGN.md 4, 5): trial labels become landmarks of our vocabulary,
 //! joint centers are estimated where the trial does not give them, and the chosen table rows
 //! become segments with two endpoints each.
 //!

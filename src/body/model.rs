@@ -7,7 +7,7 @@
 //! A point that cannot be found is a [`LandmarkError`] at build time, before any computation,
 //! naming the landmark, the label looked for and the closest labels in the file.
 //!
-//! Missing arms (`arms = "hanging"`, DESIGN.md 5): when an arm has none of its markers, its
+//! Missing arms (`arms = "hanging"`, docs/DESIGN.md 5): when an arm has none of its markers, its
 //! elbow JC, wrist JC, hand and finger tip hang straight below the shoulder JC along the trunk
 //! axis (mid-shoulder to mid-hip), at de Leva's (1996, Table 4) mean segment lengths scaled by
 //! stature; the table's own CoM fractions then place the arm segments. Reported as a warning.
@@ -944,7 +944,7 @@ impl<'a> Resolver<'a> {
 
     /// The medial malleolus when only the lateral one is marked: the ankle width plus two
     /// marker radii medial to the lateral marker, so that the malleolus midpoint is the ankle JC
-    /// of [`Resolver::epicondyle_jc`] (DESIGN.md 5; common practice, no source).
+    /// of [`Resolver::epicondyle_jc`] (docs/DESIGN.md 5; common practice, no source).
     fn medial_malleolus(&mut self, name: &str, side: Side) -> Result<PointId, LandmarkError> {
         let lat_name = side.name("ankle_lat");
         if !self.is_available(&lat_name) {
@@ -1121,7 +1121,7 @@ fn edit_distance(a: &str, b: &str) -> usize {
     prev[b.len()]
 }
 
-/// Points the support stage asks for when present (DESIGN.md 7): foot points of both sides and
+/// Points the support stage asks for when present (docs/DESIGN.md 7): foot points of both sides and
 /// the sacrum reference (PSIS midpoint or sacral marker) for gait events.
 pub const FOOT_POINTS: [&str; 13] = [
     "l_heel",
@@ -1234,7 +1234,7 @@ mod tests {
     }
 
     /// Lateral-marker-only knee: the JC lies knee_width/2 + marker radius medially, orthogonal
-    /// to the thigh (common practice; reference/methods.md 1.3).
+    /// to the thigh (common practice; docs/reference/methods.md 1.3).
     #[test]
     fn lateral_only_knee_uses_the_joint_width() {
         let labels: Vec<String> = [

@@ -1,4 +1,4 @@
-//! The landmark vocabulary of gravline (DESIGN.md 4): anatomical landmarks named by ISB and
+//! The landmark vocabulary of gravline (docs/DESIGN.md 4): anatomical landmarks named by ISB and
 //! anthropometric terms, and the joint centers and derived points the body model computes.
 //!
 //! Sided names carry an `l_` / `r_` prefix; tables name sided endpoints by their stem

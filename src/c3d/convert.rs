@@ -1,4 +1,4 @@
-//! `gravline convert`: a C3D file's points as a wide trial CSV (DESIGN.md 3.1) and its force
+//! `gravline convert`: a C3D file's points as a wide trial CSV (docs/DESIGN.md 3.1) and its force
 //! plates as a plates CSV.
 //!
 //! - `<stem>.csv`: `#` comment lines (source file, rate, units, first frame number), then

@@ -1,4 +1,4 @@
-//! Force plates: the kinetic stage after support (DESIGN.md 2, "plates"). Inputs: a
+//! Force plates: the kinetic stage after support (docs/DESIGN.md 2, "plates"). Inputs: a
 //! [`PlateRecording`] (analog samples per plate: force on the body in N, lab axes; CoP in
 //! metres; free moment in N·m; from our CSV layout, [`read`], or from a C3D reader), the marker
 //! frames, the segmental CoM and its acceleration, foot contact and foot points. Outputs, per

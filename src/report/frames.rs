@@ -1,4 +1,4 @@
-//! `frames.csv` and `steps.csv` writers. Columns in the order of DESIGN.md 8; metres, m/s,
+//! `frames.csv` and `steps.csv` writers. Columns in the order of docs/DESIGN.md 8; metres, m/s,
 //! m/s^2, m^2; missing values are empty cells; booleans are `true` / `false`. Numbers have six
 //! decimals (the text of `{:.6}`); no row allocates, and chunks of rows are formatted on several
 //! threads at once.
@@ -242,7 +242,7 @@ pub fn write_reps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
     Ok(())
 }
 
-/// Writes `steps.csv`: one row per heel strike (DESIGN.md 7).
+/// Writes `steps.csv`: one row per heel strike (docs/DESIGN.md 7).
 pub fn write_steps(r: &TrialResult, mut w: impl Write) -> io::Result<()> {
     write!(
         w,

@@ -1,4 +1,4 @@
-//! Stage 6, reporting (DESIGN.md 8, 9): a [`TrialResult`](crate::pipeline::TrialResult) becomes
+//! Stage 6, reporting (docs/DESIGN.md 8, 9): a [`TrialResult`](crate::pipeline::TrialResult) becomes
 //! `frames.csv` (one row per frame, SI units in every column name), `summary.json` (figures,
 //! warnings, provenance, cautions), `steps.csv`, the plots, and `report.html` ([`html`]).
 //!

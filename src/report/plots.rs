@@ -1,4 +1,4 @@
-//! Plots, the last part of the reporting stage (DESIGN.md 9): a
+//! Plots, the last part of the reporting stage (docs/DESIGN.md 9): a
 //! [`TrialResult`] becomes figures a reviewer can read, as PNG or SVG.
 //!
 //! - `path.png|svg`: top view of the floor plane (the two horizontal axes of the lab, named as in

@@ -1,12 +1,12 @@
-//! `summary.json`: the figures of one trial (DESIGN.md 8), its warnings, its provenance and the
-//! cautions of DESIGN.md 16. The same [`Summary`] feeds the batch summary table.
+//! `summary.json`: the figures of one trial (docs/DESIGN.md 8), its warnings, its provenance and the
+//! cautions of docs/DESIGN.md 16. The same [`Summary`] feeds the batch summary table.
 
 use crate::config::Subject;
 use crate::pipeline::{ModelInfo, TrialResult};
 use crate::warning::Warning;
 use serde::Serialize;
 
-/// DESIGN.md 16, shown in the README, the `--help` epilogue and every summary.
+/// docs/DESIGN.md 16, shown in the README, the `--help` epilogue and every summary.
 pub const CAUTIONS: [&str; 3] = [
     "CoM estimated from generic anthropometric tables and skin markers typically differs from the true CoM by a centimetre or more, more so for bodies unlike the table's population.",
     "gravline is an analysis aid, not a medical device: fall-risk, rehabilitation and training decisions belong to qualified, licensed practitioners under local regulations.",

@@ -1,4 +1,4 @@
-//! Low-pass (DESIGN.md 6.2): the zero-lag Butterworth filter of biomechanics.
+//! Low-pass (docs/DESIGN.md 6.2): the zero-lag Butterworth filter of biomechanics.
 //!
 //! **Which filter.** One 2nd-order low-pass Butterworth section (bilinear transform, frequency
 //! pre-warped), run forward and then backward over the signal: zero phase, 4th order overall
@@ -6,7 +6,7 @@
 //! cut-off is corrected so that the *dual-pass* response is -3 dB (gain `1/sqrt 2`) at the
 //! requested cut-off `f_c` (Winter, *Biomechanics and Motor Control of Human Movement*, 4th ed.,
 //! p. 69; Robertson et al., *Research Methods in Biomechanics*, 2nd ed., p. 288; the correction
-//! applied to the pre-warped frequency as in shared/reference/methods.md 4):
+//! applied to the pre-warped frequency as in docs/reference/methods.md 4):
 //!
 //! ```text
 //! C     = (2^(1/2) - 1)^(1/4) = 0.80224        (2 passes of a 2nd-order section)
@@ -41,7 +41,7 @@ use super::{Markers, SignalError};
 use std::f64::consts::{PI, SQRT_2};
 
 /// Winter's correction for two passes of a 2nd-order section, `C = (2^(1/2) - 1)^(1/4)`
-/// (methods.md 4: 0.80224).
+/// (docs/reference/methods.md 4: 0.80224).
 pub fn winter_correction() -> f64 {
     (SQRT_2 - 1.0).powf(0.25)
 }
@@ -65,7 +65,7 @@ pub struct Coefficients {
 /// frequency rounds to the Nyquist frequency.
 ///
 /// ```
-/// // methods.md 4: corrected coefficients at 100 Hz, 6 Hz.
+/// // docs/reference/methods.md 4: corrected coefficients at 100 Hz, 6 Hz.
 /// let c = gravline::signal::design(100.0, 6.0, true).unwrap();
 /// assert!((c.a0 - 0.040595).abs() < 1e-6 && (c.b1 - 1.354749).abs() < 1e-6);
 /// ```
@@ -329,13 +329,13 @@ mod tests {
 
     #[test]
     fn correction_factor_matches_methods() {
-        // methods.md 4: C = 0.80224.
+        // docs/reference/methods.md 4: C = 0.80224.
         assert_abs_diff_eq!(winter_correction(), 0.80224, epsilon = 5e-6);
     }
 
     #[test]
     fn coefficients_match_methods_table() {
-        // methods.md 4, 2nd order dual pass at f_s = 100 Hz, f_c = 6 Hz.
+        // docs/reference/methods.md 4, 2nd order dual pass at f_s = 100 Hz, f_c = 6 Hz.
         let c = design(FS, 6.0, true).unwrap();
         let want = [0.040595, 0.081189, 0.040595, 1.354749, -0.517128];
         for (got, want) in [c.a0, c.a1, c.a2, c.b1, c.b2].iter().zip(want) {
@@ -350,7 +350,7 @@ mod tests {
 
     #[test]
     fn design_frequency_matches_methods() {
-        // methods.md 4: design f_d = 7.4309 Hz (corrected), uncorrected dual pass -3 dB at
+        // docs/reference/methods.md 4: design f_d = 7.4309 Hz (corrected), uncorrected dual pass -3 dB at
         // 4.834 Hz.
         let c = design(FS, 6.0, true).unwrap();
         let f_d = FS / PI * c.omega_n().unwrap().atan();
@@ -366,7 +366,7 @@ mod tests {
 
     #[test]
     fn gain_at_cutoff_is_minus_3_db() {
-        // methods.md 4: with the correction the dual-pass gain at 6 Hz is 0.7071 (1/sqrt 2).
+        // docs/reference/methods.md 4: with the correction the dual-pass gain at 6 Hz is 0.7071 (1/sqrt 2).
         let published = std::f64::consts::FRAC_1_SQRT_2;
         assert_abs_diff_eq!(measured_gain(6.0), published, epsilon = 0.002);
         let c = design(FS, 6.0, true).unwrap();
@@ -375,14 +375,14 @@ mod tests {
             std::f64::consts::FRAC_1_SQRT_2,
             epsilon = 1e-12
         );
-        // Uncorrected: 0.5 (-6.02 dB) at 6 Hz, methods.md 4.
+        // Uncorrected: 0.5 (-6.02 dB) at 6 Hz, docs/reference/methods.md 4.
         let u = design(FS, 6.0, false).unwrap();
         assert_abs_diff_eq!(u.dual_pass_gain(6.0, FS), 0.5, epsilon = 1e-12);
     }
 
     #[test]
     fn gain_at_2_and_15_hz_matches_methods() {
-        // methods.md 4: corrected dual-pass |H|^2 = 0.99512 at 2 Hz and 0.04528 at 15 Hz.
+        // docs/reference/methods.md 4: corrected dual-pass |H|^2 = 0.99512 at 2 Hz and 0.04528 at 15 Hz.
         let c = design(FS, 6.0, true).unwrap();
         assert_abs_diff_eq!(c.dual_pass_gain(2.0, FS), 0.99512, epsilon = 5e-6);
         assert_abs_diff_eq!(c.dual_pass_gain(15.0, FS), 0.04528, epsilon = 5e-6);

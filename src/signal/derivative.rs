@@ -1,10 +1,10 @@
-//! Derivatives (DESIGN.md 6.3): velocity and acceleration of a uniformly sampled series by
+//! Derivatives (docs/DESIGN.md 6.3): velocity and acceleration of a uniformly sampled series by
 //! finite differences.
 //!
 //! Inputs: samples `x_i` (usually metres) at a frame interval `dt_s` (seconds). Outputs: first
 //! derivative (unit/s, e.g. m/s) and second derivative (unit/s^2, e.g. m/s^2), one per sample.
 //!
-//! Interior samples, central differences (standard; shared/reference/methods.md 4):
+//! Interior samples, central differences (standard; docs/reference/methods.md 4):
 //!
 //! ```text
 //! v_i = (x_{i+1} - x_{i-1}) / (2 dt)
@@ -12,7 +12,7 @@
 //! ```
 //!
 //! For a sinusoid of angular frequency `w` their gains are `sin(w dt) / (w dt)` and
-//! `(2 - 2 cos(w dt)) / (w dt)^2` (methods.md 4): 0.97648 and 0.98821 at 6 Hz, 100 Hz.
+//! `(2 - 2 cos(w dt)) / (w dt)^2` (docs/reference/methods.md 4): 0.97648 and 0.98821 at 6 Hz, 100 Hz.
 //!
 //! End samples, one-sided formulas of the same (second) order of accuracy (the standard
 //! finite-difference weights, e.g. Fornberg 1988, Math. Comp. 51, from memory):
@@ -255,7 +255,7 @@ mod tests {
 
     #[test]
     fn central_difference_gains_match_methods_table() {
-        // methods.md 4, check table (D): (f_s, f, 1st-derivative gain, 2nd-derivative gain).
+        // docs/reference/methods.md 4, check table (D): (f_s, f, 1st-derivative gain, 2nd-derivative gain).
         let table = [
             (100.0, 2.0, 0.99737, 0.99868),
             (100.0, 6.0, 0.97648, 0.98821),

@@ -1,4 +1,4 @@
-//! Gap filling (DESIGN.md 6.1): [`RawMarkers`] (metres, `None` where a marker was not seen)
+//! Gap filling (docs/DESIGN.md 6.1): [`RawMarkers`] (metres, `None` where a marker was not seen)
 //! become [`Markers`] (runs of known samples) by a natural cubic spline over short interior
 //! gaps.
 //!
@@ -23,8 +23,8 @@
 //!
 //! Method: cubic spline interpolation of short marker gaps. Howarth & Callaghan (2010) compared
 //! linear, cubic spline and rigid-body (local coordinate system) fills of marker gaps and found
-//! the spline best for short gaps (shared/reference/methods.md 4); about 0.1 s is the usual
-//! limit (common practice, no source), hence the default `max_gap_s` of 0.10 s (DESIGN.md 6).
+//! the spline best for short gaps (docs/reference/methods.md 4); about 0.1 s is the usual
+//! limit (common practice, no source), hence the default `max_gap_s` of 0.10 s (docs/DESIGN.md 6).
 
 use super::butterworth::{filtfilt_xyz_with_pad, Coefficients};
 use super::spline::NaturalSpline;

@@ -1,4 +1,4 @@
-//! Stage 2, signal conditioning (DESIGN.md 6): gappy marker tracks become complete, smoothed
+//! Stage 2, signal conditioning (docs/DESIGN.md 6): gappy marker tracks become complete, smoothed
 //! runs, and series become their time derivatives.
 //!
 //! - [`gapfill`]: [`RawMarkers`](crate::trial::RawMarkers) (metres, `None` where unseen) ->

@@ -1,6 +1,6 @@
-//! Winter's residual analysis (DESIGN.md 6.2, `gravline cutoff`): choose a low-pass cut-off from
+//! Winter's residual analysis (docs/DESIGN.md 6.2, `gravline cutoff`): choose a low-pass cut-off from
 //! the data (Winter, *Biomechanics and Motor Control of Human Movement*, 4th ed., section
-//! 3.4.4.3; formulas as quoted in shared/reference/methods.md 4).
+//! 3.4.4.3; formulas as quoted in docs/reference/methods.md 4).
 //!
 //! Input: one coordinate sampled at `rate_hz` (any unit, usually metres) and a list of trial
 //! cut-offs in Hz. For each cut-off `f_c` the signal is filtered with the same filter as
@@ -16,7 +16,7 @@
 //! the curve; its intercept `a` at 0 Hz estimates the RMS of the noise, and the suggested cut-off
 //! is where the residual curve comes down to `a`.
 //!
-//! Caveat (methods.md 4): residual-analysis cut-offs tend to lie below the true optimum,
+//! Caveat (docs/reference/methods.md 4): residual-analysis cut-offs tend to lie below the true optimum,
 //! especially at high sampling rates (Yu, Gabriel, Noble & An 1999).
 
 use super::butterworth::{design, filtfilt};

@@ -119,7 +119,7 @@ pub(super) fn bos_frames(
             |d: Option<[f64; 2]>| xi.zip(d).and_then(|(x, d)| directional_margin(&hull, x, d));
         b.mos_ap_m.push(along(out.progression).map(|m| m.ahead_m));
         // ML: in single stance the margin to the stance foot's lateral edge (outward along the
-        // stance side, Hof 2005 / methods.md 2); in double stance the nearer lateral edge.
+        // stance side, Hof 2005 / docs/reference/methods.md 2); in double stance the nearer lateral edge.
         let ml_margin = match now {
             [true, false] => along(ml).map(|m| m.ahead_m),
             [false, true] => along(ml).map(|m| m.behind_m),

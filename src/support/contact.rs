@@ -1,5 +1,5 @@
 //! Stage 5, foot contact: which frames each foot is on the floor, from how high and how fast
-//! its markers are (DESIGN.md 7: "foot markers near the floor and slow").
+//! its markers are (docs/DESIGN.md 7: "foot markers near the floor and slow").
 //!
 //! Inputs, per foot and per frame: the foot's height above the floor in metres (the lowest of
 //! its markers minus [`floor_level`]) and its speed in m/s (for example the speed of the slowest
@@ -9,10 +9,10 @@
 //! ranges.
 //!
 //! Sources of the thresholds ([`ContactThresholds::default`]):
-//! - speed 0.5 m/s: the velocity-threshold family of methods.md 3, Ghoussayni et al. 2004
+//! - speed 0.5 m/s: the velocity-threshold family of docs/reference/methods.md 3, Ghoussayni et al. 2004
 //!   (contact when the heel speed drops below 0.5 m/s, off when the toe speed rises above
 //!   0.5 m/s), as tabulated by Bonci et al. 2022 (doi 10.3389/fbioe.2022.868928).
-//! - height 30 mm: common practice, no source. methods.md 2 quotes a marker "within roughly
+//! - height 30 mm: common practice, no source. docs/reference/methods.md 2 quotes a marker "within roughly
 //!   10-20 mm of its static-trial height" (from memory); our reference is the floor level, taken
 //!   at the lowest markers (the heel's), and the lowest marker of a forefoot-loaded foot sits up
 //!   to about 15 mm above it (5th/2nd metatarsal heads in the walking recording of the tests),
@@ -24,7 +24,7 @@
 //!
 //! The floor level is a sample percentile by linear interpolation between order statistics
 //! (Hyndman & Fan 1996, "Sample quantiles in statistical packages", Am Stat 50:361-365,
-//! definition 7, the default of numpy's `percentile`); DESIGN.md 7 takes the 2nd percentile of
+//! definition 7, the default of numpy's `percentile`); docs/DESIGN.md 7 takes the 2nd percentile of
 //! the foot-marker heights.
 
 use super::floor::FloorModel;
@@ -149,7 +149,7 @@ pub fn transitions(contact: &[bool]) -> Vec<(usize, usize)> {
 }
 
 /// Floor level in metres: the `percentile` (0-100) of the foot-marker heights ([`percentile`]).
-/// DESIGN.md 7 uses `percentile = 2.0`.
+/// docs/DESIGN.md 7 uses `percentile = 2.0`.
 ///
 /// ```
 /// use gravline::support::floor_level;

@@ -9,15 +9,15 @@
 //! Pre-detection, [`zeni_events`]: the coordinate algorithm of Zeni, Richards & Higginson
 //! (2008), "Two simple methods for determining gait events during treadmill and overground
 //! walking using kinematic data", Gait Posture 27:710-714, doi 10.1016/j.gaitpost.2007.07.007
-//! (methods.md 3): heel strike at a local maximum of heel − sacrum, toe-off at a local minimum of
-//! toe − sacrum. The peak conditions are the knobs of public implementations (methods.md 3,
+//! (docs/reference/methods.md 3): heel strike at a local maximum of heel − sacrum, toe-off at a local minimum of
+//! toe − sacrum. The peak conditions are the knobs of public implementations (docs/reference/methods.md 3,
 //! secondary source): the mean is subtracted first, a peak must stand at least 10 % of the
 //! signal's range above the mean and be at least as prominent, and peaks closer than 0.25 s keep
 //! only the higher one ([`ZeniOptions::default`]). Events are whole frames.
 //!
 //! Refinement, [`refine_events`]: the velocity thresholds that Bonci et al. (2022), Front
 //! Bioeng Biotechnol 10:868928, doi 10.3389/fbioe.2022.868928, apply after a Zeni
-//! pre-detection (methods.md 3): contact when the heel's 3-D speed falls below 0.5 × the walking
+//! pre-detection (docs/reference/methods.md 3): contact when the heel's 3-D speed falls below 0.5 × the walking
 //! speed (rearfoot strikes), toe-off when the forefoot's speed rises above 0.8 × the walking
 //! speed ([`RefineOptions::default`]). Each Zeni event is moved to the start of the threshold run
 //! nearest to it: forward to the first frame past the crossing, or back to the first frame of the

@@ -320,7 +320,13 @@ fn fit(samples: &[Sample], below_m: f64) -> FloorModel {
         stance_height_m: [[None; 6]; 2],
         cells,
     };
-    let heights = || kept.iter().map(|s| model.at(s.at));
+    // Over every stance sample near the plane (those the cells follow), not only the plane's
+    // kept ones: a bump's samples are trimmed from the plane fit but not from the floor.
+    let near: Vec<&Sample> = samples
+        .iter()
+        .filter(|s| residual(s).abs() <= CELL_BAND_M)
+        .collect();
+    let heights = || near.iter().map(|s| model.at(s.at));
     if let (Some(hi), Some(lo)) = (heights().reduce(f64::max), heights().reduce(f64::min)) {
         model.rise_mm = (hi - lo) * 1e3;
     }

@@ -1,5 +1,5 @@
 //! Stage 5, base of support: the 2D convex hull of the floor projections of the foot points in
-//! contact (DESIGN.md 7).
+//! contact (docs/DESIGN.md 7).
 //!
 //! Input: points in the floor plane, `[f64; 2]` in metres. Output: a [`Hull`], which is empty, a
 //! point, a segment or a counter-clockwise polygon of positive area, so degenerate bases of

@@ -1,10 +1,10 @@
-//! Lifts (DESIGN.md 3.3, 5, 9; reference/methods.md 6): the mid-foot reference, how far the
+//! Lifts (docs/DESIGN.md 3.3, 5, 9; docs/reference/methods.md 6): the mid-foot reference, how far the
 //! system CoM (lifter + loads) and the bar sit ahead of it, and the repetitions of the bar.
 //!
 //! - Mid-foot per frame: per foot in contact, the midpoint between the heel and the mean of the
 //!   metatarsal heads present (mt1, mt2, mt5), averaged over the feet in contact; projected to
 //!   the floor. Coaching practice puts the combined CoM of lifter and bar "over mid-foot, roughly
-//!   midway between heel and ball of foot" (methods.md 6, coaching practice, not peer-reviewed).
+//!   midway between heel and ball of foot" (docs/reference/methods.md 6, coaching practice, not peer-reviewed).
 //! - `com_midfoot_ap_m`, `bar_midfoot_ap_m`: horizontal offset of the system CoM and of the bar
 //!   (the first load) from the mid-foot, along the foot direction (the trial's progression
 //!   direction, which for a lift is the mean heel-to-toe direction); positive = toward the toes.

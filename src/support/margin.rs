@@ -7,25 +7,25 @@
 //!
 //! Method: the margin of stability (MoS) of Hof, Gazendam & Sinke (2005), "The condition for
 //! dynamic stability", J Biomech 38:1-8, doi 10.1016/j.jbiomech.2004.03.025: the minimum
-//! distance from the XCoM to the BoS boundary ([`signed_distance`]); methods.md 2 gives the sign
+//! distance from the XCoM to the BoS boundary ([`signed_distance`]); docs/reference/methods.md 2 gives the sign
 //! convention (positive inside) and the 1D components. The directional margins clip the line
 //! through the point against the hull's edges (Cyrus & Beck 1978, "Generalized two- and
 //! three-dimensional clipping", Computers & Graphics 3:23-28).
 //!
 //! How gravline forms the MoS components from [`directional_margin`], with e_prog the unit
 //! direction of progression and e_ml the unit mediolateral axis (e_prog turned by 90°):
-//! - AP MoS = (anterior edge − XCoM)·e_prog (methods.md 2) = `ahead_m` along e_prog.
+//! - AP MoS = (anterior edge − XCoM)·e_prog (docs/reference/methods.md 2) = `ahead_m` along e_prog.
 //!   The backward MoS at initial contact, (XCoM − posterior edge)·e_prog (Hak et al. 2013), is
 //!   `behind_m` along e_prog.
 //! - ML MoS = the signed distance to the nearer lateral edge along the ML axis =
 //!   [`DirectionalMargin::nearer_m`] along e_ml, i.e. `min(ahead_m, behind_m)`.
-//!   The per-step stance-side ML MoS of methods.md 2, (lateral edge − XCoM)·n with n the outward
+//!   The per-step stance-side ML MoS of docs/reference/methods.md 2, (lateral edge − XCoM)·n with n the outward
 //!   (lateral) unit vector of the stance foot, is `ahead_m` along n; it differs from the nearer
 //!   edge in single stance, where the XCoM usually lies medial to the stance foot (then
 //!   `behind_m` along n is negative while `ahead_m` is the lateral margin).
 //!
 //! The temporal margin τ ([`time_to_boundary_s`]) follows the inverted-pendulum model of
-//! methods.md 2: with the CoP held at p, ξ(t) − p = (ξ0 − p)·e^(ω0 t), so the edge u is reached
+//! docs/reference/methods.md 2: with the CoP held at p, ξ(t) − p = (ξ0 − p)·e^(ω0 t), so the edge u is reached
 //! at τ = (1/ω0)·ln((u − p)/(ξ0 − p)).
 
 use super::hull::{cross, Hull};
@@ -224,7 +224,7 @@ fn polygon_interval(p: [f64; 2], d: [f64; 2], v: &[[f64; 2]]) -> Option<(f64, f6
     (t_min <= t_max).then_some((t_min, t_max))
 }
 
-/// Temporal margin τ in seconds (methods.md 2, after Hof et al. 2005): the time the XCoM needs
+/// Temporal margin τ in seconds (docs/reference/methods.md 2, after Hof et al. 2005): the time the XCoM needs
 /// to reach the BoS edge at `edge_m` when the CoP stays at `cop_m`, all positions along one axis
 /// in metres, `omega0_per_s` = √(g/l) in 1/s:
 /// τ = (1/ω0)·ln((u − p)/(ξ0 − p)).
@@ -235,7 +235,7 @@ fn polygon_interval(p: [f64; 2], d: [f64; 2], v: &[[f64; 2]]) -> Option<(f64, f6
 /// inputs or ω0 <= 0.
 ///
 /// ```
-/// // methods.md 2, check value (D): l = 0.95 m, p = 0, ξ0 = 0.05 m, u = 0.10 m -> τ = 0.216 s.
+/// // docs/reference/methods.md 2, check value (D): l = 0.95 m, p = 0, ξ0 = 0.05 m, u = 0.10 m -> τ = 0.216 s.
 /// let omega0 = (9.81_f64 / 0.95).sqrt();
 /// let tau = gravline::support::time_to_boundary_s(0.05, 0.0, 0.10, omega0).unwrap();
 /// assert!((tau - 0.216).abs() < 5e-4);

@@ -1,4 +1,4 @@
-//! Stage 5, base of support (BoS) and margins (DESIGN.md 7): which feet are on the floor, the BoS
+//! Stage 5, base of support (BoS) and margins (docs/DESIGN.md 7): which feet are on the floor, the BoS
 //! polygon they span, how far the CoM and the XCoM lie inside it, and the gait events.
 //!
 //! Inputs: floor-plane points (`[f64; 2]`, metres) and per-frame foot heights (m), speeds (m/s)

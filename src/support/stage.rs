@@ -1,6 +1,6 @@
 //! The support stage of the pipeline: per-frame foot positions from the body model become the
 //! floor level, foot contact, the BoS polygon and the signed margins of the CoM and XCoM, and,
-//! for walking trials, gait events and per-step figures (DESIGN.md 7).
+//! for walking trials, gait events and per-step figures (docs/DESIGN.md 7).
 //!
 //! Concerns, one module each: floor ([`super::floor`]), contact per foot region
 //! ([`super::contact`], regions in [`super::foot`]), sole outlines and the BoS ([`super::sole`],
@@ -60,7 +60,7 @@ use serde::Serialize;
 /// Below this mean horizontal CoM speed a trial is near-static: progression comes from the
 /// feet (common practice, no source).
 pub const STATIC_SPEED_M_S: f64 = 0.2;
-/// Percentile of foot-point heights taken as the floor (DESIGN.md 7).
+/// Percentile of foot-point heights taken as the floor (docs/DESIGN.md 7).
 pub const FLOOR_PERCENTILE: f64 = 2.0;
 
 /// Foot points, in this order, per side.
@@ -209,7 +209,7 @@ impl FootFrames {
     }
 }
 
-/// One step: from a heel strike of `side` (DESIGN.md 7).
+/// One step: from a heel strike of `side` (docs/DESIGN.md 7).
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Step {
     pub side: &'static str,

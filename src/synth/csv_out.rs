@@ -1,4 +1,4 @@
-//! Writes a synthetic trial as a wide trial CSV (DESIGN.md 3.1): `#` comment lines, a header
+//! Writes a synthetic trial as a wide trial CSV (docs/DESIGN.md 3.1): `#` comment lines, a header
 //! `time,<label>_x,<label>_y,<label>_z,...`, one row per frame, time in seconds with 6 decimals,
 //! coordinates in millimetres with 2 decimals, empty cells where a marker is missing.
 //!

@@ -51,7 +51,7 @@ use crate::body::vocabulary::Side;
 use model::{Body, ComModel, Model, PointId, Single, Stem};
 use noise::Rng;
 
-/// Acceleration of free fall used for the jump's flight, m/s^2 (`reference/methods.md`: 9.81).
+/// Acceleration of free fall used for the jump's flight, m/s^2 (`docs/reference/methods.md`: 9.81).
 pub const G_M_S2: f64 = 9.81;
 
 /// What the model body does.

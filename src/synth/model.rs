@@ -14,7 +14,7 @@
 //! on the fixed leg lengths, stand about 0.002 H below Drillis & Contini's 0.530 H.
 //!
 //! The hip joint center is placed by the Harrington et al. (2007) full regression (doi
-//! 10.1016/j.jbiomech.2006.02.003; `reference/methods.md` 1.2), inverted: the pelvis markers are
+//! 10.1016/j.jbiomech.2006.02.003; `docs/reference/methods.md` 1.2), inverted: the pelvis markers are
 //! put where that regression, applied to them with the model's leg length, returns the model's
 //! own hip joint centers. The shoulder
 //! joint center lies 17 % of the inter-acromion distance below the acromion marker along the
@@ -106,7 +106,7 @@ pub mod proportions {
 pub(crate) const STANDING_KNEE_FLEXION_DEG: f64 = 5.0;
 /// `mid_hip` ahead of the ankle joint centers in the upright posture, fraction of stature (the
 /// hip stands about 6 cm anterior to the ankle: Woodhull et al. 1985, Eur J Appl Physiol
-/// 54:109-115, `reference/methods.md` 6).
+/// 54:109-115, `docs/reference/methods.md` 6).
 pub(crate) const STANDING_HIP_AHEAD: f64 = 0.035;
 /// Ankle joint centers lateral of the hip joint centers in the upright posture, metres (ours).
 pub(crate) const STANDING_FOOT_OUTSET_M: f64 = 0.005;
@@ -446,7 +446,7 @@ pub(crate) struct Model {
 /// Harrington et al. (2007) full regression: the right hip joint center in the pelvis frame
 /// (origin mid-ASIS; x anterior, y superior, z lateral), millimetres, from the pelvis width PW
 /// (inter-ASIS), depth PD (mid-ASIS to mid-PSIS) and leg length LL (ASIS to medial malleolus), all
-/// in millimetres (`reference/methods.md` 1.2).
+/// in millimetres (`docs/reference/methods.md` 1.2).
 pub(crate) fn harrington_full_mm(pw_mm: f64, pd_mm: f64, ll_mm: f64) -> [f64; 3] {
     [
         -0.24 * pd_mm - 9.9,
@@ -798,7 +798,7 @@ mod tests {
     use crate::anthropometry::Sex;
     use approx::assert_abs_diff_eq;
 
-    /// Check values of `reference/methods.md` 1.2 (derived there from the published equations):
+    /// Check values of `docs/reference/methods.md` 1.2 (derived there from the published equations):
     /// PW 250, PD 160, LL 900 mm gives -48.3, -83.1, +92.7 mm.
     #[test]
     fn harrington_matches_the_reference_check_values() {

@@ -13,7 +13,7 @@
 //! 0.16 H above the ankle joint centers and the trunk leans from 10 to 35 deg; the hip moves
 //! fore and aft so that the bar stays exactly above the mid-foot (the midpoint between the heel
 //! marker and the mean of the 1st and 5th metatarsal markers; coaching practice,
-//! `reference/methods.md` 6). Knees by inverse kinematics, pointing over the toes. Head flexion
+//! `docs/reference/methods.md` 6). Knees by inverse kinematics, pointing over the toes. Head flexion
 //! -0.5 x trunk lean (eyes forward).
 
 use super::geom::{chain_span, min_jerk, rot_y, rot_z, V3};

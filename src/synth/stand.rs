@@ -1,7 +1,7 @@
 //! Quiet standing: feet flat at hip width (ankle joint centers 5 mm lateral of the hip joint
 //! centers), 7 deg toed out; knees flexed 5 deg; `mid_hip` 0.035 H in front of the ankles (the
 //! hip stands about 6 cm anterior to the ankle: Woodhull et al. 1985, Eur J Appl Physiol
-//! 54:109-115, `reference/methods.md` 6); trunk and head upright; arms hanging.
+//! 54:109-115, `docs/reference/methods.md` 6); trunk and head upright; arms hanging.
 //!
 //! Sway: the body above the ankles tilts about the mid-ankle point as an inverted pendulum, by
 //! sums of three sines (0.18, 0.41, 0.77 Hz; 3.0, 1.5, 0.8 mm at the height of the CoM)

@@ -22,7 +22,7 @@ pub fn realdata_dir() -> Option<PathBuf> {
 
 /// A static trial: every marker at a fixed position for `frames` frames at 100 Hz.
 /// The configuration of the real standing recording (realdata/standing-static): its marker set
-/// has no arms and no toe-tip markers, so arms hang (DESIGN.md 5) and the toe tips are virtual
+/// has no arms and no toe-tip markers, so arms hang (docs/DESIGN.md 5) and the toe tips are virtual
 /// landmarks along heel -> 2nd metatarsal head.
 pub const STANDING_CONFIG: &str = r#"
 [input]
