@@ -14,7 +14,7 @@ use common::realdata_dir;
 /// and the curves file has one column per marker coordinate.
 #[test]
 fn cutoff_on_the_real_walk_suggests_a_walking_cutoff() {
-    let Some(dir) = realdata_dir() else { return };
+    let dir = realdata_dir();
     let out = tempfile::tempdir().unwrap();
     let curves = out.path().join("curves.csv");
     let config = out.path().join("walk.toml");

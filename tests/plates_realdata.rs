@@ -34,9 +34,7 @@ r_acromion = { frame = ["l_asis", "r_asis", "l_psis"], offset_m = [0.30, 0.08, -
 "#;
 
 fn walk_dir() -> PathBuf {
-    common::realdata_dir()
-        .expect("../shared/realdata (or /work/shared/realdata) is needed for this test")
-        .join("walk-lower-body")
+    common::realdata_dir().join("walk-lower-body")
 }
 
 #[test]

@@ -12,7 +12,7 @@ use common::{realdata_dir, STANDING_CONFIG};
 
 #[test]
 fn real_standing_figures_name_the_lab_axes_and_magnify_the_sway() {
-    let Some(dir) = realdata_dir() else { return };
+    let dir = realdata_dir();
     let dir = dir.join("standing-static");
     let config = Config::from_raw(
         &RawConfig::from_toml(STANDING_CONFIG, "test").unwrap(),

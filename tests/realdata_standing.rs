@@ -9,7 +9,7 @@ use common::{realdata_dir, STANDING_CONFIG};
 
 #[test]
 fn standing_com_height_and_projection_are_those_of_a_person() {
-    let Some(dir) = realdata_dir() else { return };
+    let dir = realdata_dir();
     let dir = dir.join("standing-static");
     let config = Config::from_raw(
         &RawConfig::from_toml(STANDING_CONFIG, "test").unwrap(),
