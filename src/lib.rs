@@ -51,6 +51,8 @@ pub mod plates;
 pub mod report;
 /// Gap filling, zero-lag low-pass, residual analysis, derivatives.
 pub mod signal;
+/// Order statistics shared by the stages (percentile).
+pub mod stats;
 /// Foot contact, BoS polygon, margins, gait events.
 pub mod support;
 /// Synthetic trials for the demo, the tests and the benchmarks.
@@ -59,5 +61,7 @@ pub mod synth;
 pub mod textio;
 /// Reading trial files.
 pub mod trial;
+/// The landmark vocabulary: our names for landmarks and joint centers, sides.
+pub mod vocabulary;
 /// Non-fatal findings kept in the summary.
 pub mod warning;

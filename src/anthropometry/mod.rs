@@ -23,7 +23,7 @@
 //! (0, 1], exactly one default row per segment, and whole-body mass fractions summing to 1 within
 //! 0.5 % (otherwise a [`Warning::MassFractionSum`]; the CoM always divides by the actual sum).
 
-use crate::body::vocabulary::{self, Sidedness};
+use crate::vocabulary::{self, Sidedness};
 use crate::warning::Warning;
 use serde::Serialize;
 use std::collections::BTreeMap;

@@ -16,7 +16,8 @@ pub mod frames;
 pub mod geometric;
 pub mod joints;
 pub mod model;
-pub mod vocabulary;
+/// The landmark names live on the ground floor (the tables use them too).
+pub use crate::vocabulary;
 
 pub use model::{BodyModel, LandmarkError, Segment, SegmentPoint};
 pub use vocabulary::Side;

@@ -532,7 +532,7 @@ impl BodyModel {
                 let distances = (0..markers.n_frames).filter_map(|frame| {
                     Some((P::from(a.at(frame)?) - P::from(b.at(frame)?)).norm())
                 });
-                crate::support::percentile(distances, LEG_LENGTH_PERCENTILE)
+                crate::stats::percentile(distances, LEG_LENGTH_PERCENTILE)
             })
             .collect();
         if !sides.is_empty() {
