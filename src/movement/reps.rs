@@ -67,23 +67,7 @@ pub fn repetitions(
     let vz: Vec<Option<f64>> = velocity.iter().map(|v| v.map(|v| up.height(&v))).collect();
     let height: Vec<Option<f64>> = points.iter().map(|p| p.map(|p| up.height(&p))).collect();
     let min_frames = (MIN_PHASE_S * r.rate_hz).ceil() as usize;
-    let sign = |f: usize| match vz[f] {
-        Some(v) if v < -PHASE_SPEED_M_S => -1,
-        Some(v) if v > PHASE_SPEED_M_S => 1,
-        _ => 0,
-    };
-    let mut phases: Vec<(i32, usize, usize)> = Vec::new();
-    let mut f = 0;
-    while f < n {
-        let s = sign(f);
-        let start = f;
-        while f < n && sign(f) == s {
-            f += 1;
-        }
-        if s != 0 && f - start >= min_frames {
-            phases.push((s, start, f));
-        }
-    }
+    let phases = crate::support::lift::vertical_phases(&vz, PHASE_SPEED_M_S, min_frames);
     // Squat (down, up) unless the trial starts with an ascent (sit-to-stand: up, down).
     let pattern = match phases.first() {
         Some((1, _, _)) => (1, -1),

@@ -174,24 +174,7 @@ fn repetitions(
     let vz: Vec<Option<f64>> = velocity.iter().map(|v| v.map(|v| up.height(&v))).collect();
     let height: Vec<Option<f64>> = bar.iter().map(|p| p.map(|p| up.height(&p))).collect();
     let min_frames = (MIN_PHASE_S * rate_hz).ceil() as usize;
-    // Phases: maximal runs of frames moving down (-1) or up (+1) faster than the threshold.
-    let sign = |f: usize| match vz[f] {
-        Some(v) if v < -REP_SPEED_M_S => -1,
-        Some(v) if v > REP_SPEED_M_S => 1,
-        _ => 0,
-    };
-    let mut phases: Vec<(i32, usize, usize)> = Vec::new();
-    let mut f = 0;
-    while f < n {
-        let s = sign(f);
-        let start = f;
-        while f < n && sign(f) == s {
-            f += 1;
-        }
-        if s != 0 && f - start >= min_frames {
-            phases.push((s, start, f));
-        }
-    }
+    let phases = vertical_phases(&vz, REP_SPEED_M_S, min_frames);
     let time = |f: usize| times_s.get(f).copied().unwrap_or(f as f64 / rate_hz);
     let still = |f: usize| vz[f].is_some_and(|v| v.abs() < STILL_SPEED_M_S);
     let mut reps = Vec::new();
@@ -252,4 +235,37 @@ fn repetitions(
         i += 2;
     }
     reps
+}
+/// Phases of a vertical velocity series: maximal runs of frames moving down (-1) or up (+1)
+/// faster than `speed_m_s`, at least `min_frames` long, as (direction, first frame, end frame).
+///
+/// ```
+/// use gravline::support::lift::vertical_phases;
+/// let vz = [0.0, -0.3, -0.3, -0.3, 0.0, 0.3, 0.3, 0.3].map(Some);
+/// assert_eq!(vertical_phases(&vz, 0.1, 2), [(-1, 1, 4), (1, 5, 8)]);
+/// ```
+pub fn vertical_phases(
+    vz: &[Option<f64>],
+    speed_m_s: f64,
+    min_frames: usize,
+) -> Vec<(i32, usize, usize)> {
+    let n = vz.len();
+    let sign = |f: usize| match vz[f] {
+        Some(v) if v < -speed_m_s => -1,
+        Some(v) if v > speed_m_s => 1,
+        _ => 0,
+    };
+    let mut phases = Vec::new();
+    let mut f = 0;
+    while f < n {
+        let s = sign(f);
+        let start = f;
+        while f < n && sign(f) == s {
+            f += 1;
+        }
+        if s != 0 && f - start >= min_frames {
+            phases.push((s, start, f));
+        }
+    }
+    phases
 }
