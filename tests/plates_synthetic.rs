@@ -13,19 +13,6 @@ use gravline::pipeline::{run_trial_with_plates, RunOptions, TrialResult};
 use gravline::plates::PlateSeries;
 use gravline::synth::plates::{synth_plates, SynthPlates};
 use gravline::synth::{generate, Scenario, SynthOptions, SynthTrial, G_M_S2};
-use gravline::trial::{RawMarkers, Trial, UpAxis};
-
-fn to_trial(s: &SynthTrial, rate_hz: f64) -> Trial {
-    Trial {
-        name: s.name.clone(),
-        file: format!("{}.csv", s.name),
-        times_s: s.times_s.clone(),
-        rate_hz,
-        up_axis: UpAxis::Z,
-        markers: RawMarkers::from_options(s.labels.clone(), s.positions.clone()),
-        warnings: Vec::new(),
-    }
-}
 
 fn run(o: &SynthOptions, scenario: Scenario) -> (SynthTrial, SynthPlates, TrialResult) {
     let s = generate(scenario, o);
@@ -42,7 +29,7 @@ fn run(o: &SynthOptions, scenario: Scenario) -> (SynthTrial, SynthPlates, TrialR
     subject.leg_length_m = Some(gravline::synth::model_leg_length_m(o.height_m));
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
     let r = run_trial_with_plates(
-        to_trial(&s, o.rate_hz),
+        s.to_trial(o.rate_hz),
         &config,
         &subject,
         &table,

@@ -13,7 +13,6 @@ use gravline::pipeline::{run_trial, RunOptions, TrialResult};
 use gravline::support::transitions;
 use gravline::synth::floor::{bump, keep_foot_markers, tilt, FootMarkerSet};
 use gravline::synth::{generate, Scenario, SynthOptions, SynthTrial};
-use gravline::trial::{RawMarkers, Trial, UpAxis};
 
 fn walk() -> (SynthTrial, SynthOptions) {
     let o = SynthOptions::for_scenario(Scenario::Walk);
@@ -21,15 +20,7 @@ fn walk() -> (SynthTrial, SynthOptions) {
 }
 
 fn run(s: &SynthTrial, o: &SynthOptions, toml: &str) -> TrialResult {
-    let trial = Trial {
-        name: s.name.clone(),
-        file: format!("{}.csv", s.name),
-        times_s: s.times_s.clone(),
-        rate_hz: o.rate_hz,
-        up_axis: UpAxis::Z,
-        markers: RawMarkers::from_options(s.labels.clone(), s.positions.clone()),
-        warnings: Vec::new(),
-    };
+    let trial = s.to_trial(o.rate_hz);
     let config = Config::from_raw(&RawConfig::from_toml(toml, "t").unwrap(), "t").unwrap();
     let subject = Subject::new(o.mass_kg, o.height_m, o.sex);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();

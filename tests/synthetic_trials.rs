@@ -5,19 +5,6 @@ use gravline::anthropometry::SegmentTable;
 use gravline::config::{Config, RawConfig, Subject};
 use gravline::pipeline::{run_trial, RunOptions, TrialResult};
 use gravline::synth::{generate, Scenario, SynthOptions, SynthTrial};
-use gravline::trial::{RawMarkers, Trial, UpAxis};
-
-fn to_trial(s: &SynthTrial, rate_hz: f64) -> Trial {
-    Trial {
-        name: s.name.clone(),
-        file: format!("{}.csv", s.name),
-        times_s: s.times_s.clone(),
-        rate_hz,
-        up_axis: UpAxis::Z,
-        markers: RawMarkers::from_options(s.labels.clone(), s.positions.clone()),
-        warnings: Vec::new(),
-    }
-}
 
 fn run(scenario: Scenario, toml: &str) -> (SynthTrial, SynthOptions, TrialResult) {
     let o = SynthOptions::for_scenario(scenario);
@@ -26,7 +13,7 @@ fn run(scenario: Scenario, toml: &str) -> (SynthTrial, SynthOptions, TrialResult
     let subject = Subject::new(o.mass_kg, o.height_m, o.sex);
     let table = SegmentTable::load(&config.table, subject.sex).unwrap();
     let r = run_trial(
-        to_trial(&s, o.rate_hz),
+        s.to_trial(o.rate_hz),
         &config,
         &subject,
         &table,

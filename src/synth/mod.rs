@@ -160,6 +160,23 @@ pub struct SynthTrial {
 }
 
 impl SynthTrial {
+    /// The trial as a reader would give it (metres, +z up, `<name>.csv`, sampled at `rate_hz`),
+    /// for running the pipeline on the model without a file.
+    pub fn to_trial(&self, rate_hz: f64) -> crate::trial::Trial {
+        crate::trial::Trial {
+            name: self.name.clone(),
+            file: format!("{}.csv", self.name),
+            times_s: self.times_s.clone(),
+            rate_hz,
+            up_axis: crate::trial::UpAxis::Z,
+            markers: crate::trial::RawMarkers::from_options(
+                self.labels.clone(),
+                self.positions.clone(),
+            ),
+            warnings: Vec::new(),
+        }
+    }
+
     /// Index of a marker label.
     pub fn index_of(&self, label: &str) -> Option<usize> {
         self.labels.iter().position(|l| l == label)
